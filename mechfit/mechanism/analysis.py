@@ -7,7 +7,7 @@ Examples
 >>> a.intermediates, a.deficiency
 (('E', 'ES'), 0)
 >>> sorted(a.summary())[:4]
-['balance', 'conservation_laws', 'constants', 'cycles']
+['balance', 'complexes', 'conservation_laws', 'constants']
 """
 
 from __future__ import annotations
@@ -130,10 +130,14 @@ class NetworkAnalysis:
         out.append(f"  complexes: {len(cx.complexes)}, linkage classes: {len(cx.linkage_classes)}, "
                    f"rank: {cx.rank}, deficiency: {cx.deficiency}, "
                    f"weakly reversible: {'yes' if cx.weakly_reversible else 'no'}")
-        checked = sum(1 for v in self.balance.values() if v == "balanced")
-        out.append(f"  balance: {checked} of {len(self.balance)} steps checked and balanced"
-                   + ("" if checked == len(self.balance) else
-                      " (the others have species of unknown make-up)"))
+        counts = {k: sum(1 for v in self.balance.values() if v == k)
+                  for k in ("balanced", "exchange", "not checked")}
+        line = f"  balance: {counts['balanced']} of {len(self.balance)} steps checked and balanced"
+        if counts["exchange"]:
+            line += f"; {counts['exchange']} inflow/outflow"
+        if counts["not checked"]:
+            line += f"; {counts['not checked']} not checked (species of unknown make-up)"
+        out.append(line)
         if m.steady or m.fast:
             out.append(f"  directives: steady = {', '.join(m.steady) or '-'}; "
                        f"fast = {', '.join(m.fast) or '-'}")

@@ -79,24 +79,26 @@ def _total(side: Side, resolve) -> dict[str, int]:
 
 
 def _show(d: Mapping[str, int]) -> str:
-    atoms = " ".join(f"{k}{v if v != 1 else ''}" for k, v in sorted(d.items()) if k != "charge")
+    atoms = ", ".join(f"{k} {v}" for k, v in sorted(d.items()) if k != "charge")
     q = d.get("charge", 0)
     return (atoms or "nothing") + (f", charge {q:+d}" if q else "")
 
 
-def check_balance(mech: Mechanism) -> tuple[int | None, str] | None:
+def check_balance(mech: Mechanism) -> tuple[int | str, str] | None:
     """The first unbalanced step as ``(index, message)``, or ``None`` if all balance.
 
-    ``index`` is the step's position in ``mech.steps`` (``None`` for a problem with the
-    ``made-of`` declarations themselves).
+    ``index`` is the step's position in ``mech.steps``, or the name of a ``made-of``
+    species when the declarations themselves are at fault (a circle).
     """
     resolve = _resolver(mech)
-    try:
-        for sp, _ in mech.made_of_items:
+    for sp, _ in mech.made_of_items:
+        try:
             resolve(sp)
-    except ValueError as exc:
-        return None, str(exc)
+        except ValueError as exc:
+            return sp, str(exc)
     for i, step in enumerate(mech.steps):
+        if not step.reactants or not step.products:
+            continue  # inflow or outflow: exchange with the surroundings, not a reaction
         if any(resolve(n) is None for n in step.species):
             continue
         left, right = _total(step.reactants, resolve), _total(step.products, resolve)
@@ -116,5 +118,8 @@ def balance_status(mech: Mechanism) -> dict[str, str]:
     out = {}
     for step in mech.steps:
         known = all(resolve(n) is not None for n in step.species)
-        out[step.label] = "balanced" if known else "not checked"
+        if not step.reactants or not step.products:
+            out[step.label] = "exchange"
+        else:
+            out[step.label] = "balanced" if known else "not checked"
     return out

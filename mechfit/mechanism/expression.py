@@ -12,7 +12,7 @@ Examples
 >>> sorted(e.species), sorted(e.parameters)
 (['A', 'B'], ['a', 'k'])
 >>> to_text(e.sympy, e.species)
-'k*[A]^a*[B]'
+'k*[B]*[A]^a'
 """
 
 from __future__ import annotations
@@ -82,9 +82,9 @@ class _Builder(Transformer):
     def __init__(self, where: Callable[[Token, str], ExpressionError]) -> None:
         super().__init__()
         self.where = where
-        self.species: set[str] = set()
-        self.initial: set[str] = set()
-        self.parameters: set[str] = set()
+        self.used_species: set[str] = set()
+        self.used_initial: set[str] = set()
+        self.used_parameters: set[str] = set()
 
     def number(self, tok: Token) -> sympy.Expr:
         return sympy.Rational(str(tok))
@@ -93,15 +93,15 @@ class _Builder(Transformer):
         name = str(tok)
         if name in FUNCTIONS:
             raise self.where(tok, f"'{name}' is a function: write {name}(...)")
-        self.parameters.add(name)
+        self.used_parameters.add(name)
         return symbols.parameter(name)
 
     def concentration(self, tok: Token) -> sympy.Expr:
-        self.species.add(str(tok))
+        self.used_species.add(str(tok))
         return symbols.concentration(str(tok))
 
     def initial(self, tok: Token, _zero: Token) -> sympy.Expr:
-        self.initial.add(str(tok))
+        self.used_initial.add(str(tok))
         return symbols.initial_concentration(str(tok))
 
     def call(self, name: Token, *args: sympy.Expr) -> sympy.Expr:
@@ -159,9 +159,9 @@ def build_expression(tree, text: str, *, file: str = "<text>", line: int = 1,
     return Expression(
         text=text.strip(),
         sympy=value,
-        species=frozenset(builder.species),
-        initial=frozenset(builder.initial),
-        parameters=frozenset(builder.parameters),
+        species=frozenset(builder.used_species),
+        initial=frozenset(builder.used_initial),
+        parameters=frozenset(builder.used_parameters),
     )
 
 

@@ -18,7 +18,7 @@ from mechfit.errors import SourceError
 
 #: what each token of the grammar is, in words, for "expected ..." messages
 TOKEN_WORDS: dict[str, str] = {
-    "ARROW": "'->' or '<=>'",
+    "ARROW": "an arrow ('->' or '<=>')",
     "SPECIES": "a species",
     "COEF": "a coefficient",
     "NAME": "a name",
@@ -46,6 +46,9 @@ TOKEN_WORDS: dict[str, str] = {
     "$END": "the end of the line",
 }
 
+_DIRECTIVE_LINE = re.compile(r"^\s*(steady|fast|made-of)\s*:")
+_LABEL_ONLY = re.compile(r"^\s*[A-Za-z_][A-Za-z0-9_]*\s*:\s*$")
+_BAD_NUMBER = re.compile(r"[0-9.]+(?:[eE][+-]?[0-9]+)?(?:[.eE][0-9.eE+-]*)+")
 _ARROW_LIKE = re.compile(r"<?[-=~]+>|<[-=~]+>?|⟶|↔|⇄|→|⇌|=")
 
 
@@ -95,6 +98,13 @@ def _message(err: UnexpectedInput, text: str, start: str) -> tuple[str, int]:
         expected = set(err.expected)
         if tok.type == "$END":
             col = len(text.rstrip()) + 1
+            directive = _DIRECTIVE_LINE.match(text)
+            if directive:
+                what = {"steady": "a species", "fast": "a step label or number",
+                        "made-of": "a species, '=' and its parts"}[directive.group(1)]
+                return f"{directive.group(1)}: expected {what} after ':'", col
+            if _LABEL_ONLY.match(text):
+                return "expected a step after the label", col
             if "RSQB" in expected:
                 return "unclosed '[': expected ']' before the end of the line", col
             if "RPAR" in expected:
@@ -109,7 +119,15 @@ def _message(err: UnexpectedInput, text: str, start: str) -> tuple[str, int]:
             shown = arrow.group(0) if arrow else str(tok)
             return (f"unknown arrow '{shown}': expected '->' (one-way) or '<=>' (two-way) "
                     "after the reactants", col)
-        if tok.type == "ARROW" and ("SPECIES" in expected or "COEF" in expected):
+        if tok.type in {"NUMBER", "COEF", "NAME"}:
+            start = col - 1
+            while start > 0 and (text[start - 1].isdigit() or text[start - 1] in ".eE"):
+                start -= 1
+            bad = _BAD_NUMBER.match(text, start)
+            if bad and start < col - 1:
+                return (f"bad number '{bad.group(0)}': expected a number such as 2, 0.5 "
+                        "or 2.5e3", start + 1)
+        if tok.type in {"ARROW", "AT"} and ("SPECIES" in expected or "COEF" in expected):
             return ("the step is missing a side: expected a species (or 0 for nothing) "
                     f"before '{tok}'", col)
         if tok.type == "SPECIES" and "ARROW" in expected:
@@ -120,16 +138,17 @@ def _message(err: UnexpectedInput, text: str, start: str) -> tuple[str, int]:
 
 
 def parse_rule(text: str, start: str, *, file: str, line: int,
-               error: type[SourceError] = SourceError) -> Tree:
+               error: type[SourceError] = SourceError, shown: str | None = None) -> Tree:
     """Parse ``text`` from the start rule ``start``; raise ``error`` with the position.
 
     Examples
     --------
-    >>> parse_rule("A -> B", "line", file="x.mech", line=1).data
+    >>> str(parse_rule("A -> B", "line", file="x.mech", line=1).data)
     'step'
     """
     try:
         return _parser(start).parse(text)
     except UnexpectedInput as err:
         message, col = _message(err, text, start)
-        raise error(message, file=file, line=line, column=col, text=text) from None
+        raise error(message, file=file, line=line, column=col,
+                    text=text if shown is None else shown) from None

@@ -113,9 +113,7 @@ def intermediates(mech: Mechanism) -> tuple[str, ...]:
                 continue
             ok = True
             for st in steps:
-                mine, other = ((st.reactants, st.products) if s in dict(st.reactants)
-                               else (st.products, st.reactants))
-                if mine != ((s, 1),) or not any(n in found for n, _ in other):
+                if st.products != ((s, 1),) or not any(n in found for n, _ in st.reactants):
                     ok = False
                     break
             if ok:

@@ -282,7 +282,7 @@ def parse_mechanism(text: str, *, file: str = "<text>", name: str | None = None)
             continue
         line = _Line(number, raw)
         tree = parse_rule(body.rstrip(), "line", file=file, line=number,
-                          error=MechanismSyntaxError)
+                          error=MechanismSyntaxError, shown=raw.rstrip("\n"))
         if tree.data == "step":
             _read_step(tree, p, line)
         else:
@@ -303,7 +303,7 @@ def parse_mechanism(text: str, *, file: str = "<text>", name: str | None = None)
             raise p.error(MechanismSyntaxError,
                           f"step {position} has no '@', so its constant defaults to "
                           f"'{default}', but '{default}' is written on line {other.number}: "
-                          "name this step's constants after '@'", line, None)
+                          "name this step's constants after '@'", line, 1)
     constants = {c.name for s in p.steps for c in (s.forward, s.reverse) if c is not None}
     species = tuple(p.species)
     for sname in species:
@@ -331,8 +331,11 @@ def parse_mechanism(text: str, *, file: str = "<text>", name: str | None = None)
                                                      law.species, law.initial, law.parameters))
 
     # directives
-    base = Mechanism(species=species, steps=tuple(steps),
-                     fixed_items=tuple((k, v[0]) for k, v in p.fixed.items()))
+    order = {c: i for i, c in enumerate(dict.fromkeys(
+        c.name for st in steps for c in (st.forward, st.reverse) if c is not None))}
+    fixed_items = tuple(sorted(((k, v[0]) for k, v in p.fixed.items()),
+                               key=lambda kv: order.get(kv[0], len(order))))
+    base = Mechanism(species=species, steps=tuple(steps), fixed_items=fixed_items)
     inter = set(intermediates(base))
     steady: dict[str, None] = {}
     for sname, line, tok in p.steady:
@@ -372,8 +375,9 @@ def parse_mechanism(text: str, *, file: str = "<text>", name: str | None = None)
     problem = check_balance(mech)
     if problem is not None:
         index, message = problem
-        if index is None:
-            raise MechanismSyntaxError(message, file=file)
+        if isinstance(index, str):
+            _parts, line, tok = p.made_of[index]
+            raise p.error(MechanismSyntaxError, message, line, tok.column)
         line = p.step_lines[index]
         arrow_col = _arrow_column(line.text)
         raise p.error(UnbalancedStepError, message, line, arrow_col)
