@@ -54,6 +54,18 @@ class KineticModel:
         ``state``, no empirical law); a simulator may then use matrix kernels.
     assumptions
         Plain-text statements of what the variant assumed.
+    steady, fast
+        The species put in steady state (after conservation laws added the other
+        forms of a catalyst) and the step labels taken at equilibrium.
+    implicit_species
+        Species eliminated by the approximation for which no closed form was found
+        (empty for closed-form variants). They are neither in ``state`` nor in
+        ``algebraic``; ``rhs`` is written in their concentration symbols, and a
+        simulator finds them at each time by solving ``implicit`` = 0.
+    implicit
+        The algebraic equations ``g(state, implicit species) = 0`` (steady-state
+        balances, equilibrium conditions, conservation laws), one per implicit
+        species.
     """
 
     name: str
@@ -64,6 +76,20 @@ class KineticModel:
     parameters: tuple[str, ...] = ()
     mass_action: bool = False
     assumptions: tuple[str, ...] = ()
+    steady: tuple[str, ...] = field(default=(), compare=False)
+    fast: tuple[str, ...] = field(default=(), compare=False)
+    implicit_species: tuple[str, ...] = field(default=(), compare=False)
+    implicit: tuple[sympy.Expr, ...] = field(default=(), compare=False)
+
+    @property
+    def numerical_steady_state(self) -> bool:
+        """True when some eliminated species have no closed form (see ``implicit``)."""
+        return bool(self.implicit_species)
+
+    @property
+    def eliminated(self) -> tuple[str, ...]:
+        """Species of the mechanism that are not integrated (algebraic or implicit)."""
+        return tuple(s for s in self.mechanism.species if s not in self.state)
 
     def jacobian(self) -> sympy.Matrix:
         """d rhs_i / d [state_j] as a sympy matrix."""
@@ -72,7 +98,7 @@ class KineticModel:
 
     def parameter_symbols(self) -> tuple[sympy.Symbol, ...]:
         """The sympy symbols of ``parameters``, as they appear in the expressions."""
-        found = {s.name: s for e in (*self.rhs, *self.algebraic.values())
+        found = {s.name: s for e in (*self.rhs, *self.algebraic.values(), *self.implicit)
                  for s in e.free_symbols}
         return tuple(found[p] for p in self.parameters if p in found)
 
