@@ -1,0 +1,1 @@
+"""Figures of the report, one module per family; each function returns a Figure."""

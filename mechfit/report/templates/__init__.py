@@ -1,0 +1,1 @@
+"""Templates of the report writers (jinja2)."""
