@@ -8,7 +8,7 @@ Public surface:
   :func:`steady_state_model`, :func:`pre_equilibrium_model`,
   :func:`rate_determining_model`;
 * :func:`derive_variants`, :func:`derive_variant`, :func:`variant_requests`,
-  :func:`variant_name` (stable names);
+  :func:`variant_name`, :func:`split_variant_list` (stable names);
 * :func:`derive_rate_law` -> :class:`RateLaw` (rate, numerator, denominator, lumped
   parameters, apparent orders, text, LaTeX, ``summary()``);
 * :func:`time_scale_separation`, :func:`largest_relative_deviation`,
@@ -34,12 +34,17 @@ from mechfit.derive.validity import (
     largest_relative_deviation,
     time_scale_separation,
 )
-from mechfit.derive.variants import derive_variant, derive_variants, variant_requests
+from mechfit.derive.variants import (
+    derive_variant,
+    derive_variants,
+    split_variant_list,
+    variant_requests,
+)
 
 __all__ = [
     "DerivationError", "KineticModel", "LumpedParameter", "RateLaw", "TimeScaleSeparation",
     "algebraic_values", "default_species", "derive_rate_law", "derive_variant",
     "derive_variants", "largest_relative_deviation", "mass_action_model", "mass_action_odes",
     "pre_equilibrium_model", "rate_determining_model", "reduced_model", "steady_state_model",
-    "time_scale_separation", "variant_name", "variant_requests",
+    "split_variant_list", "time_scale_separation", "variant_name", "variant_requests",
 ]
