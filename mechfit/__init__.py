@@ -27,11 +27,13 @@ from mechfit.mechanism import (
     parse_mechanism,
 )
 
+from mechfit.study import load_study  # noqa: E402  (after the mechanism layer it builds on)
+
 __version__ = "0.1.0.dev0"
 
 __all__ = [
     "ExpressionError", "IntegrationFailure", "Mechanism", "MechanismError",
     "MechanismSyntaxError", "MechfitError", "SourceError", "Step", "StudyError",
     "UnbalancedStepError", "__version__", "analyse_network", "load_mechanism",
-    "parse_expression", "parse_mechanism",
+    "load_study", "parse_expression", "parse_mechanism",
 ]

@@ -61,6 +61,12 @@ def main(argv: Sequence[str] | None = None) -> int:
     except KeyboardInterrupt:
         print("mechfit: interrupted", file=sys.stderr)
         return 130
+    except BrokenPipeError:  # output piped into 'head' and the like: stop quietly
+        import os
+
+        devnull = os.open(os.devnull, os.O_WRONLY)
+        os.dup2(devnull, sys.stdout.fileno())
+        return 0
 
 
 if __name__ == "__main__":  # pragma: no cover

@@ -1,0 +1,29 @@
+"""``mechfit report``: write the report of a results folder again."""
+
+from __future__ import annotations
+
+from pathlib import Path
+
+NAME = "report"
+HELP = "write the HTML, Markdown and JSON report of a results folder made by 'mechfit rank'"
+EXAMPLE = """example:
+  mechfit report mechfit-results/study-20261201-101500
+  mechfit report mechfit-results/study-20261201-101500 --out report-copy
+"""
+
+
+def add_arguments(p) -> None:
+    p.add_argument("folder", type=Path, help="a results folder written by 'mechfit rank'")
+    p.add_argument("--out", type=Path, default=None,
+                   help="where to write the report (default: the results folder itself)")
+    p.add_argument("--force", action="store_true", help="replace an existing report")
+
+
+def run(args) -> int:
+    from mechfit.pipeline.report_inputs import report_data_from_folder
+    from mechfit.report import write_report
+
+    paths = write_report(report_data_from_folder(args.folder), args.out or args.folder,
+                         overwrite=args.force)
+    print(f"report: {paths.html}")
+    return 0

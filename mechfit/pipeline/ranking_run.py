@@ -1,0 +1,286 @@
+"""Rank candidate mechanisms against one study: fit each, compare, write the results.
+
+:func:`rank_study` is a thin runner around :func:`rank_study_steps`, a generator of
+progress events (long work as a generator, so a progress bar or a test can hook in).
+Candidates are fitted in worker processes when ``workers > 1``; the ranking itself
+(:func:`mechfit.compare.rank_candidates`) and exact leave-one-run-out refits run here.
+"""
+
+from __future__ import annotations
+
+import dataclasses
+import json
+import multiprocessing
+import os
+from collections.abc import Iterator, Sequence
+from concurrent.futures import ProcessPoolExecutor, as_completed
+from dataclasses import dataclass, field
+from pathlib import Path
+
+import numpy as np
+
+from mechfit.compare import Candidate, Ranking, rank_candidates
+from mechfit.compare.run_loo import log_predictive_density
+from mechfit.derive import derive_variant, derive_variants, split_variant_list
+from mechfit.errors import MechfitError
+from mechfit.infer.fit import fit_study
+from mechfit.infer.inference_data import write_inference_data
+from mechfit.infer.likelihood import Likelihood
+from mechfit.infer.study_model import study_problem
+from mechfit.infer.summaries import posterior_values
+from mechfit.mechanism import Mechanism
+from mechfit.pipeline.evaluate import (
+    CandidateOutcome,
+    FitSettings,
+    evaluate_candidate,
+    evaluate_from_text,
+)
+
+RESULT_FILES = ("ranking.json", "ranking.md")
+
+
+class RankingFailure(MechfitError):
+    """No candidate could be fitted, so there is nothing to rank."""
+
+    exit_code = 1
+
+
+@dataclass(frozen=True)
+class RankSettings:
+    """Settings of a ranking: variants per mechanism, fitting effort, parallelism."""
+
+    variants: str = "full"
+    fit: FitSettings = field(default_factory=FitSettings)
+    workers: int = 1
+    exact_refits: bool = True
+
+    def variant_names(self, mechanism: Mechanism) -> list[str]:
+        """The variants to fit: ``"full"``, ``"all"`` (every derivable variant) or a list
+        such as ``"full,qssa:all"``."""
+        if self.variants == "all":
+            # variants without a closed form need a numerical steady state, which the
+            # simulator does not integrate: they are left out (and said so by derive)
+            return [m.name for m in derive_variants(mechanism)
+                    if not m.numerical_steady_state]
+        names = split_variant_list(self.variants)
+        for name in names:
+            derive_variant(mechanism, name)  # a clear error for a bad name, before fitting
+        return names
+
+
+@dataclass
+class Event:
+    """A progress event: ``kind`` is ``"start"``, ``"fitted"``, ``"refit"`` or ``"ranked"``."""
+
+    kind: str
+    key: str = ""
+    done: int = 0
+    total: int = 0
+    seconds: float = 0.0
+    status: str = ""
+
+
+@dataclass
+class StudyRanking:
+    """The outcome of a ranking: every candidate's fit and the :class:`Ranking`."""
+
+    study: object
+    outcomes: list[CandidateOutcome]
+    ranking: Ranking | None
+    settings: RankSettings
+
+    @property
+    def failed(self) -> list[CandidateOutcome]:
+        return [o for o in self.outcomes if not o.ok]
+
+    def outcome(self, name: str, variant: str) -> CandidateOutcome:
+        for o in self.outcomes:
+            if o.name == name and o.variant == variant:
+                return o
+        raise KeyError((name, variant))
+
+    def summary(self) -> dict:
+        """The JSON object of ``mechfit rank --json`` (``candidates`` best first)."""
+        from mechfit import __version__
+
+        out = self.ranking.summary() if self.ranking is not None else {"candidates": []}
+        out = dict(out)
+        for c in out["candidates"]:
+            c["folder"] = _folder_name(c["name"], c["variant"])
+        out["study"] = str(getattr(self.study, "path", ""))
+        out["study_info"] = study_info(self.study)
+        out["version"] = __version__
+        out["failed"] = [{"name": o.name, "variant": o.variant, "reason": o.reason}
+                         for o in self.failed]
+        out["settings"] = {"variants": self.settings.variants, **self.settings.fit.as_dict(),
+                           "exact_refits": self.settings.exact_refits}
+        return out
+
+    def table(self) -> str:
+        """The ranking table as plain text (what ``mechfit rank`` prints)."""
+        text = self.ranking.report() if self.ranking is not None else "no candidate ranked"
+        if self.failed:
+            text += "\n\nfailed to fit:\n" + "\n".join(
+                f"  {o.name} [{o.variant}]: {o.reason}" for o in self.failed)
+        return text
+
+    def write(self, folder: str | os.PathLike[str]) -> list[Path]:
+        """Write ``ranking.json``, ``ranking.md`` and per candidate ``posterior.nc`` and
+        ``fit.json`` under ``folder`` (refuses to replace earlier results)."""
+        folder = Path(folder)
+        existing = [n for n in RESULT_FILES if (folder / n).exists()]
+        if existing:
+            raise MechfitError(f"{folder}: holds a ranking already ({', '.join(existing)}); "
+                               "choose another --out folder or remove the old results")
+        folder.mkdir(parents=True, exist_ok=True)
+        written = []
+        for o in self.outcomes:
+            if not o.ok:
+                continue
+            sub = folder / "candidates" / _folder_name(o.name, o.variant)
+            sub.mkdir(parents=True, exist_ok=True)
+            written.append(write_inference_data(o.idata, sub / "posterior.nc"))
+            with open(sub / "fit.json", "x", encoding="utf-8") as handle:
+                json.dump(o.summary, handle, indent=2, default=_json_default)
+                handle.write("\n")
+            written.append(sub / "fit.json")
+            (sub / "mechanism.mech").write_text(o.mechanism_text, encoding="utf-8")
+        with open(folder / "ranking.json", "x", encoding="utf-8") as handle:
+            json.dump(self.summary(), handle, indent=2, default=_json_default)
+            handle.write("\n")
+        with open(folder / "ranking.md", "x", encoding="utf-8") as handle:
+            handle.write(f"# Ranking: {getattr(self.study, 'title', '')}\n\n```\n"
+                         f"{self.table()}\n```\n")
+        written += [folder / "ranking.json", folder / "ranking.md"]
+        return written
+
+
+def study_info(study) -> dict:
+    """Title, note, run conditions and time spans of a study (canonical units), for the
+    report's cautions and plots."""
+    text = f"{study.title} {getattr(study, 'note', '')}".lower()
+    return {
+        "title": study.title,
+        "note": getattr(study, "note", ""),
+        "invented": "invented" in text,
+        "initial": {r.name: {k: float(v) for k, v in r.initial.items()} for r in study.runs},
+        "run_temperatures": {r.name: float(r.temperature) for r in study.runs},
+        "times": {r.name: [float(np.min(r.times)), float(np.max(r.times))]
+                  for r in study.runs if len(r.times)},
+        "reference_temperature": float(study.reference_temperature),
+        "units": {"concentration": "mol/L", "time": "s", "temperature": "K"},
+    }
+
+
+def _folder_name(name: str, variant: str) -> str:
+    safe = "".join(ch if ch.isalnum() or ch in "-_." else "_" for ch in variant)
+    return f"{name}__{safe}"
+
+
+def _json_default(value):
+    if isinstance(value, np.generic):
+        return value.item()
+    if isinstance(value, np.ndarray):
+        return value.tolist()
+    return str(value)
+
+
+def _held_out_density(study, outcome: CandidateOutcome, run: str,
+                      settings: FitSettings) -> float:
+    """log p(y_run | other runs): refit without the run, score the run at the new draws."""
+    reduced = dataclasses.replace(study, runs=tuple(r for r in study.runs if r.name != run))
+    mech = outcome.mechanism()
+    model = derive_variant(mech, outcome.variant)
+    fit = fit_study(reduced, model, starts=settings.starts, local=settings.local,
+                    settings=settings.sampling(), seed=settings.seed)
+    problem = study_problem(study, model)
+    lik = Likelihood(problem.model, problem.observations, problem.parameters, problem.errors)
+    values = posterior_values(fit.idata)
+    names = lik.parameters.names
+    base = np.array([lik.parameters.values[n] for n in names], dtype=float)
+    flat = {n: v.reshape(-1) for n, v in values.items()}
+    count = next(iter(flat.values())).size
+    x = np.tile(base, (count, 1))
+    for j, n in enumerate(names):
+        if n in flat:
+            x[:, j] = flat[n]
+    take = np.linspace(0, count - 1, min(count, 400)).astype(int)
+    x = x[take]
+    mu = lik.predict(x)
+    pointwise = lik.pointwise_from_prediction(x, mu)
+    r = lik.observations.run_names.index(run)
+    sums = pointwise[:, lik.observations.run == r].sum(axis=1)
+    sums = sums[np.isfinite(sums)]
+    if sums.size == 0:
+        raise MechfitError(f"refit of {outcome.key} without run {run}: no finite predictions")
+    return log_predictive_density(sums)
+
+
+def rank_study_steps(study, mechanisms: Sequence[Mechanism],
+                     settings: RankSettings = RankSettings()  # noqa: B008
+                     ) -> Iterator[Event | StudyRanking]:
+    """Fit every candidate, rank them, and yield progress events, then the result."""
+    jobs = [(m, v) for m in mechanisms for v in settings.variant_names(m)]
+    keys = [f"{m.name} [{v}]" for m, v in jobs]
+    if len(set(keys)) != len(keys):
+        raise MechfitError("two mechanisms share a name: " + ", ".join(
+            sorted({k for k in keys if keys.count(k) > 1})) + "; rename one of the files")
+    outcomes: list[CandidateOutcome] = []
+    total = len(jobs)
+    yield Event("start", total=total)
+    if settings.workers > 1 and total > 1:
+        ctx = multiprocessing.get_context("spawn")
+        with ProcessPoolExecutor(max_workers=min(settings.workers, total),
+                                 mp_context=ctx) as pool:
+            futures = {pool.submit(evaluate_from_text, str(study.path), m.to_text(), m.name,
+                                   v, settings.fit): (m, v) for m, v in jobs}
+            for fut in as_completed(futures):
+                m, v = futures[fut]
+                try:
+                    outcome = fut.result()
+                except Exception as exc:  # the worker process died
+                    outcome = CandidateOutcome(m.name, v, m.to_text(), "failed",
+                                               reason=f"worker failed: {exc}")
+                outcomes.append(outcome)
+                yield Event("fitted", outcome.key, len(outcomes), total, outcome.seconds,
+                            outcome.status)
+    else:
+        for m, v in jobs:
+            outcome = evaluate_candidate(study, m, v, settings.fit)
+            outcomes.append(outcome)
+            yield Event("fitted", outcome.key, len(outcomes), total, outcome.seconds,
+                        outcome.status)
+    order = {k: i for i, k in enumerate(keys)}
+    outcomes.sort(key=lambda o: order[o.key])
+    good = [o for o in outcomes if o.ok]
+    if not good:
+        reasons = "; ".join(f"{o.key}: {o.reason}" for o in outcomes)
+        raise RankingFailure(f"no candidate could be fitted ({reasons})")
+    candidates = []
+    for o in good:
+        refit = None
+        if settings.exact_refits and len(study.runs) > 1:
+            def refit(run, o=o):
+                return _held_out_density(study, o, run, settings.fit)
+        candidates.append(Candidate(
+            o.name, o.variant, o.idata, "y", o.point_runs,
+            log_likelihood_max=o.log_likelihood_max, n_parameters=o.n_parameters,
+            n_data=o.n_data, residuals=o.residuals(), refit=refit))
+    ranking = rank_candidates(candidates, seed=settings.fit.seed)
+    yield Event("ranked", total=total, done=total)
+    yield StudyRanking(study, outcomes, ranking, settings)
+
+
+def rank_study(study, mechanisms: Sequence[Mechanism],
+               settings: RankSettings = RankSettings()) -> StudyRanking:  # noqa: B008
+    """Fit and rank every candidate (see :func:`rank_study_steps`); no progress output.
+
+    Examples
+    --------
+    See ``docs/tutorial.md``; a full ranking takes seconds to minutes.
+    """
+    result = None
+    for item in rank_study_steps(study, mechanisms, settings):
+        if isinstance(item, StudyRanking):
+            result = item
+    return result
