@@ -16,7 +16,7 @@ def add_arguments(p) -> None:
     p.add_argument("folder", type=Path, help="a results folder written by 'mechfit rank'")
     p.add_argument("--out", type=Path, default=None,
                    help="where to write the report (default: the results folder itself)")
-    p.add_argument("--force", action="store_true", help="replace an existing report")
+    p.add_argument("--overwrite", action="store_true", help="replace an existing report")
 
 
 def run(args) -> int:
@@ -24,6 +24,6 @@ def run(args) -> int:
     from mechfit.report import write_report
 
     paths = write_report(report_data_from_folder(args.folder), args.out or args.folder,
-                         overwrite=args.force)
+                         overwrite=args.overwrite)
     print(f"report: {paths.html}")
     return 0
