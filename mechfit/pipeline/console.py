@@ -60,6 +60,10 @@ def run_ranking(study, mechanisms, settings: RankSettings, folder: Path, *,
             elif item.kind == "fitted":
                 progress.update(task, completed=item.done)
                 progress.console.print(f"  {item.key}: {item.status} ({item.seconds:.1f} s)")
+            elif item.kind == "refits":
+                task = progress.add_task("exact leave-one-run-out refits", total=item.total)
+            elif item.kind == "refit":
+                progress.update(task, completed=item.done)
             elif item.kind == "ranked":
                 progress.update(task, description="ranked")
     result.write(folder)

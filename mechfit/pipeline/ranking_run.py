@@ -20,6 +20,7 @@ from pathlib import Path
 import numpy as np
 
 from mechfit.compare import Candidate, Ranking, rank_candidates
+from mechfit.compare.elpd import PARETO_K_UNRELIABLE
 from mechfit.compare.run_loo import log_predictive_density
 from mechfit.derive import derive_variant, derive_variants, split_variant_list
 from mechfit.errors import MechfitError
@@ -47,7 +48,12 @@ class RankingFailure(MechfitError):
 
 @dataclass(frozen=True)
 class RankSettings:
-    """Settings of a ranking: variants per mechanism, fitting effort, parallelism."""
+    """Settings of a ranking: variants per mechanism, fitting effort, parallelism.
+
+    ``exact_refits``: for the candidates in the leading set after a first ranking, every
+    run whose leave-one-run-out Pareto k exceeds 0.7 is refitted without that run (in
+    the worker pool), and the ranking is made again with those exact values.
+    """
 
     variants: str = "full"
     fit: FitSettings = field(default_factory=FitSettings)
@@ -216,6 +222,44 @@ def _held_out_density(study, outcome: CandidateOutcome, run: str,
     return log_predictive_density(sums)
 
 
+def _candidate(o: CandidateOutcome, refits: dict[str, float] | None = None) -> Candidate:
+    refit = None
+    if refits:
+        def refit(run, refits=refits):
+            if run not in refits:
+                raise MechfitError(f"no exact refit of {o.key} without run {run} was made")
+            return refits[run]
+    return Candidate(o.name, o.variant, o.idata, "y", o.point_runs,
+                     log_likelihood_max=o.log_likelihood_max, n_parameters=o.n_parameters,
+                     n_data=o.n_data, residuals=o.residuals(), refit=refit)
+
+
+def _refit_job(study_path: str, text: str, name: str, variant: str, run: str,
+               settings: FitSettings) -> float:
+    from mechfit.study import load_study
+
+    study = load_study(study_path)
+    outcome = CandidateOutcome(name, variant, text, "ok")
+    return _held_out_density(study, outcome, run, settings)
+
+
+def _refits(study, outcomes: list[CandidateOutcome], wanted, settings: RankSettings):
+    """Yield ((name, variant, run), log p(y_run | other runs)) for every wanted refit."""
+    texts = {(o.name, o.variant): o.mechanism_text for o in outcomes}
+    if settings.workers > 1 and len(wanted) > 1:
+        ctx = multiprocessing.get_context("spawn")
+        with ProcessPoolExecutor(max_workers=min(settings.workers, len(wanted)),
+                                 mp_context=ctx) as pool:
+            futures = {pool.submit(_refit_job, str(study.path), texts[(n, v)], n, v, run,
+                                   settings.fit): (n, v, run) for n, v, run in wanted}
+            for fut in as_completed(futures):
+                yield futures[fut], fut.result()
+    else:
+        for n, v, run in wanted:
+            outcome = CandidateOutcome(n, v, texts[(n, v)], "ok")
+            yield (n, v, run), _held_out_density(study, outcome, run, settings.fit)
+
+
 def rank_study_steps(study, mechanisms: Sequence[Mechanism],
                      settings: RankSettings = RankSettings()  # noqa: B008
                      ) -> Iterator[Event | StudyRanking]:
@@ -256,17 +300,31 @@ def rank_study_steps(study, mechanisms: Sequence[Mechanism],
     if not good:
         reasons = "; ".join(f"{o.key}: {o.reason}" for o in outcomes)
         raise RankingFailure(f"no candidate could be fitted ({reasons})")
-    candidates = []
-    for o in good:
-        refit = None
-        if settings.exact_refits and len(study.runs) > 1:
-            def refit(run, o=o):
-                return _held_out_density(study, o, run, settings.fit)
-        candidates.append(Candidate(
-            o.name, o.variant, o.idata, "y", o.point_runs,
-            log_likelihood_max=o.log_likelihood_max, n_parameters=o.n_parameters,
-            n_data=o.n_data, residuals=o.residuals(), refit=refit))
-    ranking = rank_candidates(candidates, seed=settings.fit.seed)
+    ranking = rank_candidates([_candidate(o) for o in good], seed=settings.fit.seed)
+    if settings.exact_refits and len(study.runs) > 1:
+        # exact leave-one-run-out values where PSIS is unreliable (Pareto k > 0.7), for
+        # the candidates still in contention after the first pass (the leading set);
+        # the others keep the approximate value, and the ranking says so
+        wanted = []
+        for c in ranking.leading_set:
+            run_k = c.run_loo.pareto_k if c.run_loo is not None else ()
+            labels = c.run_loo.labels if c.run_loo is not None else ()
+            for run, k in zip(labels, run_k, strict=True):
+                if k > PARETO_K_UNRELIABLE:
+                    wanted.append((c.name, c.variant, run))
+        if wanted:
+            yield Event("refits", total=len(wanted))
+            values = {}
+            for done, (item, value) in enumerate(_refits(study, good, wanted, settings), 1):
+                values[item] = value
+                yield Event("refit", f"{item[0]} [{item[1]}] without {item[2]}", done,
+                            len(wanted))
+            candidates = []
+            for o in good:
+                mine = {run: v for (n, var, run), v in values.items()
+                        if (n, var) == (o.name, o.variant)}
+                candidates.append(_candidate(o, mine))
+            ranking = rank_candidates(candidates, seed=settings.fit.seed)
     yield Event("ranked", total=total, done=total)
     yield StudyRanking(study, outcomes, ranking, settings)
 

@@ -38,7 +38,7 @@ def study(tmp_path_factory):
     return folder
 
 
-FAST = ["--starts", "4", "--max-steps", "1500", "--no-refits", "--workers", "1"]
+FAST = ["--starts", "4", "--max-steps", "1500", "--workers", "1"]
 
 
 @pytest.fixture(scope="module")
