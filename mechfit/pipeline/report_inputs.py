@@ -221,6 +221,12 @@ def report_data_from_folder(folder: str | Path) -> ReportData:
         temp = (_arrhenius_bands(idata, t_ref, ranges.temperatures)
                 if ranges.temperature_varies else [])
         notes = []
+        sampling = fit.get("sampling", {})
+        if not fit.get("converged", True):
+            notes.append("the fit did NOT converge: " + (sampling.get("statement") or
+                         "see fit.json") + "; treat its intervals and criteria with care")
+        elif sampling.get("statement"):
+            notes.append("posterior " + sampling["statement"])
         ident = fit.get("identifiability", {})
         for d in ident.get("sloppy", []) or []:
             notes.append(f"poorly determined direction: {d}" if isinstance(d, str) else
