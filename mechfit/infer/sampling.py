@@ -1,0 +1,327 @@
+"""Posterior sampling with emcee's affine-invariant ensemble, run until converged or out of budget.
+
+Foreman-Mackey, Hogg, Lang and Goodman, "emcee: The MCMC Hammer", PASP 125 (2013) 306;
+Goodman and Weare, "Ensemble samplers with affine invariance", Commun. Appl. Math.
+Comput. Sci. 5 (2010) 65.
+
+The walkers start in a small ball around the maximum-likelihood point (a Gaussian of
+1e-3 times the asymptotic standard deviations in the free space). The log posterior
+is evaluated for all walkers in one call (``vectorize=True``). The sampler runs in
+chunks; after each chunk the chain is judged by :func:`mechfit.infer.diagnostics.judge`
+(run length >= 50 tau, R-hat <= 1.01, bulk and tail ESS >= 400). It stops when the
+rules are met, or when the budget of steps is spent, and then says plainly that it
+did not converge. No blobs are carried (they do not work with ``vectorize=True``,
+dfm/emcee issue 516): pointwise log-likelihoods are computed on the kept draws
+afterwards (:mod:`mechfit.infer.inference_data`).
+
+:func:`sample_steps` is the work as a generator of :class:`SamplingProgress` events;
+:func:`sample_posterior` is the thin runner that drives it, optionally with a
+progress bar.
+"""
+
+from __future__ import annotations
+
+import math
+import sys
+from collections.abc import Callable, Iterator
+from dataclasses import dataclass, field
+
+import numpy as np
+
+from mechfit.errors import MechfitError
+from mechfit.infer.diagnostics import ESS_MIN, RHAT_MAX, TAU_FACTOR, Convergence, judge
+from mechfit.infer.errors import FitFailure
+from mechfit.infer.likelihood import Likelihood
+
+
+@dataclass(frozen=True)
+class SamplingSettings:
+    """How long and how wide to sample.
+
+    Attributes
+    ----------
+    walkers
+        Ensemble size (``None``: max(32, 4 q) rounded up to even).
+    chunk
+        Steps between convergence checks.
+    max_steps
+        Budget of steps per walker.
+    min_steps
+        Steps before the first check.
+    ball
+        Width of the starting ball, in asymptotic standard deviations.
+    seed
+        Seed of the random generator (starting ball and moves).
+    rhat_max, ess_min, tau_factor
+        Convergence rules (defaults in :mod:`mechfit.infer.diagnostics`).
+    report_every
+        Steps between progress events.
+    """
+
+    walkers: int | None = None
+    chunk: int = 1000
+    max_steps: int = 20000
+    min_steps: int = 1000
+    ball: float = 1e-3
+    seed: int | None = 0
+    rhat_max: float = RHAT_MAX
+    ess_min: float = ESS_MIN
+    tau_factor: float = TAU_FACTOR
+    report_every: int = 50
+
+    def __post_init__(self) -> None:
+        for name in ("chunk", "max_steps", "min_steps", "report_every"):
+            if int(getattr(self, name)) < 1:
+                raise MechfitError(f"sampling settings: {name} must be >= 1, "
+                                 f"got {getattr(self, name)!r}")
+        if self.walkers is not None and self.walkers < 2:
+            raise MechfitError(f"sampling settings: walkers must be >= 2, got {self.walkers!r}")
+        if not self.ball > 0:
+            raise MechfitError(f"sampling settings: ball must be > 0, got {self.ball!r}")
+
+    def walker_count(self, q: int) -> int:
+        n = self.walkers if self.walkers is not None else max(32, 4 * q)
+        n = max(n, 2 * q + 2)
+        return n + (n % 2)
+
+
+@dataclass
+class SamplingProgress:
+    """One event of :func:`sample_steps`: steps done, the budget, and a verdict after a check."""
+
+    step: int
+    budget: int
+    verdict: Convergence | None = None
+    posterior: Posterior | None = None
+
+
+@dataclass
+class Posterior:
+    """A posterior sample in the free space with its diagnostics.
+
+    Attributes
+    ----------
+    likelihood
+        The likelihood (and, through it, the parameters) sampled.
+    draws
+        Kept draws of the free vector, (walkers, draws, q): burn-in removed, thinned.
+    log_posterior
+        Log posterior of the kept draws, (walkers, draws).
+    convergence
+        The final verdict.
+    burn, thin, steps
+        Burn-in, thinning and total steps per walker.
+    acceptance
+        Acceptance fraction per walker.
+    evaluations
+        Log-posterior evaluations (walkers x steps).
+    seconds
+        Wall time of the sampling.
+    """
+
+    likelihood: Likelihood
+    draws: np.ndarray
+    log_posterior: np.ndarray
+    convergence: Convergence
+    burn: int
+    thin: int
+    steps: int
+    acceptance: np.ndarray
+    evaluations: int = 0
+    seconds: float = 0.0
+    settings: SamplingSettings = field(default_factory=SamplingSettings)
+
+    @property
+    def converged(self) -> bool:
+        return self.convergence.converged
+
+    @property
+    def names(self) -> tuple[str, ...]:
+        return self.likelihood.parameters.free_names
+
+    def natural(self) -> np.ndarray:
+        """Natural values of every parameter for the kept draws, (walkers, draws, P)."""
+        c, d, q = self.draws.shape
+        x = self.likelihood.parameters.natural(self.draws.reshape(c * d, q))
+        return x.reshape(c, d, -1)
+
+    def flat(self) -> np.ndarray:
+        """Kept draws of ``u`` flattened to (walkers * draws, q)."""
+        return self.draws.reshape(-1, self.draws.shape[-1])
+
+    def statement(self) -> str:
+        """A plain sentence on convergence."""
+        v = self.convergence
+        if v.converged:
+            return (f"converged after {self.steps} steps x {self.draws.shape[0]} walkers "
+                    f"(R-hat max {v.rhat_max:.4f}, ESS min {v.ess_min:.0f})")
+        return (f"DID NOT CONVERGE within the budget of {self.settings.max_steps} steps: "
+                + "; ".join(v.reasons) + ". Treat the intervals as unreliable.")
+
+
+def starting_ball(likelihood: Likelihood, centre: np.ndarray, covariance: np.ndarray | None,
+                  walkers: int, width: float, rng: np.random.Generator) -> np.ndarray:
+    """Walker positions around ``centre`` with finite log posterior, (walkers, q)."""
+    q = centre.size
+    if covariance is not None and np.all(np.isfinite(np.diag(covariance))):
+        sd = np.sqrt(np.clip(np.diag(covariance), 0, None))
+    else:
+        sd = np.zeros(q)
+    sd = np.where((sd > 0) & np.isfinite(sd), sd, 1e-2 * np.maximum(1.0, np.abs(centre)))
+    low, high = likelihood.parameters.free_bounds()
+    pos = np.empty((walkers, q))
+    todo = np.arange(walkers)
+    for _ in range(50):
+        trial = centre + width * sd * rng.standard_normal((todo.size, q))
+        trial = np.clip(trial, low + 1e-12, high - 1e-12)
+        ok = np.isfinite(likelihood.log_posterior(trial))
+        pos[todo[ok]] = trial[ok]
+        todo = todo[~ok]
+        if todo.size == 0:
+            return pos
+        width = width / 2
+    raise FitFailure(f"{todo.size} of {walkers} walkers could not start near the optimum "
+                     "(the log posterior is not finite there); check the priors")
+
+
+def sample_steps(
+    likelihood: Likelihood,
+    centre: np.ndarray,
+    covariance: np.ndarray | None = None,
+    settings: SamplingSettings | None = None,
+) -> Iterator[SamplingProgress]:
+    """Run the sampler, yielding progress; the last event carries the :class:`Posterior`.
+
+    Parameters
+    ----------
+    likelihood
+        Its :meth:`~mechfit.infer.likelihood.Likelihood.log_posterior` is sampled.
+    centre
+        Free vector at the middle of the starting ball (the maximum-likelihood point).
+    covariance
+        Asymptotic covariance of the free vector (sets the ball's shape), or ``None``.
+    settings
+        See :class:`SamplingSettings`.
+    """
+    import time
+
+    import emcee
+
+    settings = settings or SamplingSettings()
+    q = centre.size
+    if q == 0:
+        raise FitFailure("nothing to sample: every parameter is fixed or tied")
+    rng = np.random.default_rng(settings.seed)
+    walkers = settings.walker_count(q)
+    start = starting_ball(likelihood, np.asarray(centre, float), covariance, walkers,
+                          settings.ball, rng)
+    sampler = emcee.EnsembleSampler(walkers, q, likelihood.log_posterior, vectorize=True)
+    sampler.random_state = np.random.RandomState(int(rng.integers(2**31))).get_state()
+    names = likelihood.parameters.free_names
+    state = start
+    steps = 0
+    budget = settings.max_steps
+    began = time.perf_counter()
+    verdict = None
+    burn, thin = 0, 1
+    next_check = min(max(settings.min_steps, 1), budget)
+    while steps < budget:
+        n = next_check - steps
+        for sample in sampler.sample(state, iterations=n, progress=False):
+            steps += 1
+            state = sample
+            if steps % settings.report_every == 0:
+                yield SamplingProgress(steps, budget)
+        chain = sampler.get_chain()
+        verdict, burn, thin = judge(names, chain, rhat_max=settings.rhat_max,
+                                    ess_min=settings.ess_min, tau_factor=settings.tau_factor)
+        if verdict.converged:
+            yield SamplingProgress(steps, budget, verdict)
+            break
+        wanted = steps + settings.chunk
+        if np.all(np.isfinite(verdict.tau)):
+            wanted = max(wanted, int(math.ceil(settings.tau_factor * np.max(verdict.tau))))
+        next_check = min(wanted, budget)
+        yield SamplingProgress(steps, budget, verdict)
+    chain = sampler.get_chain()
+    lp = sampler.get_log_prob()
+    draws = np.swapaxes(chain[burn::thin], 0, 1).copy()
+    kept_lp = np.swapaxes(lp[burn::thin], 0, 1).copy()
+    posterior = Posterior(likelihood, draws, kept_lp, verdict, burn, thin, steps,
+                          np.asarray(sampler.acceptance_fraction), walkers * steps,
+                          time.perf_counter() - began, settings)
+    yield SamplingProgress(steps, budget, verdict, posterior)
+
+
+def sample_posterior(
+    likelihood: Likelihood,
+    centre: np.ndarray,
+    covariance: np.ndarray | None = None,
+    settings: SamplingSettings | None = None,
+    *,
+    progress: bool | Callable[[SamplingProgress], None] = False,
+) -> Posterior:
+    """Drive :func:`sample_steps` to the end and return the :class:`Posterior`.
+
+    ``progress=True`` shows a progress bar on standard error; a callable receives every
+    :class:`SamplingProgress` event instead.
+
+    Examples
+    --------
+    >>> import numpy as np
+    >>> from mechfit.infer.likelihood import ErrorModel, Likelihood
+    >>> from mechfit.infer.observations import ModelFunction, Observations
+    >>> from mechfit.infer.parameters import Parameter, Parameters
+    >>> from mechfit.infer.priors import LogNormal
+    >>> lik = Likelihood(ModelFunction(("m",), lambda x: np.repeat(x, 3, axis=1)),
+    ...                  Observations.single([0, 1, 2], [0.9, 1.0, 1.1]),
+    ...                  Parameters((Parameter("m", 1.0, LogNormal(1.0, 1.0), "log"),)),
+    ...                  ErrorModel(sigma=0.1))
+    >>> post = sample_posterior(lik, np.zeros(1), settings=SamplingSettings(max_steps=3000))
+    >>> post.converged, round(float(np.median(post.natural()[..., 0])), 1)
+    (True, 1.0)
+    """
+    callback = progress if callable(progress) else None
+    bar = _ProgressBar() if progress is True else None
+    posterior = None
+    try:
+        for event in sample_steps(likelihood, centre, covariance, settings):
+            if callback is not None:
+                callback(event)
+            if bar is not None:
+                bar.update(event)
+            if event.posterior is not None:
+                posterior = event.posterior
+    finally:
+        if bar is not None:
+            bar.close()
+    return posterior
+
+
+class _ProgressBar:
+    """A rich progress bar on standard error, updated from :class:`SamplingProgress` events."""
+
+    def __init__(self) -> None:
+        from rich.console import Console
+        from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
+
+        self._progress = Progress(TextColumn("sampling"), BarColumn(),
+                                  TextColumn("{task.completed}/{task.total} steps"),
+                                  TextColumn("{task.fields[note]}"), TimeElapsedColumn(),
+                                  console=Console(file=sys.stderr), transient=False)
+        self._task = None
+        self._progress.start()
+
+    def update(self, event: SamplingProgress) -> None:
+        if self._task is None:
+            self._task = self._progress.add_task("sampling", total=event.budget, note="")
+        note = ""
+        if event.verdict is not None:
+            v = event.verdict
+            note = ("converged" if v.converged
+                    else f"R-hat {v.rhat_max:.3f}, ESS {v.ess_min:.0f}")
+        self._progress.update(self._task, completed=event.step,
+                              **({"note": note} if note else {}))
+
+    def close(self) -> None:
+        self._progress.stop()

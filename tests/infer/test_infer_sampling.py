@@ -1,0 +1,77 @@
+"""Posterior sampling: a conjugate model with a closed-form posterior, convergence rules."""
+
+import numpy as np
+import pytest
+
+from mechfit.infer import (
+    ErrorModel,
+    Likelihood,
+    ModelFunction,
+    Normal,
+    Observations,
+    Parameter,
+    Parameters,
+    SamplingSettings,
+    judge,
+    sample_posterior,
+    sample_steps,
+)
+
+Y = np.array([4.1, 3.7, 4.6, 4.3, 3.9, 4.4, 4.0, 4.8])
+S, M0, S0 = 0.5, 3.0, 1.0
+
+
+def conjugate():
+    model = ModelFunction(("m",), lambda x: np.repeat(x[:, :1], Y.size, axis=1))
+    pars = Parameters((Parameter("m", 3.0, Normal(M0, S0)),))
+    return Likelihood(model, Observations.single(np.arange(Y.size), Y), pars,
+                      ErrorModel(sigma=S))
+
+
+def test_normal_mean_with_known_variance_matches_the_conjugate_posterior():
+    # Gelman et al., Bayesian Data Analysis, 3rd ed. (2013), section 2.5:
+    # precision 1/s0^2 + n/s^2, mean (m0/s0^2 + sum(y)/s^2) / precision
+    precision = 1 / S0**2 + Y.size / S**2
+    mean = (M0 / S0**2 + Y.sum() / S**2) / precision
+    sd = precision**-0.5
+    lik = conjugate()
+    post = sample_posterior(lik, np.array([mean]), np.array([[sd**2]]),
+                            SamplingSettings(walkers=16, max_steps=6000, seed=2))
+    assert post.converged, post.statement()
+    draws = post.natural()[..., 0].ravel()
+    se = sd / np.sqrt(post.convergence.ess_min)
+    assert abs(draws.mean() - mean) < 4 * se
+    assert draws.std() == pytest.approx(sd, rel=0.08)
+    assert post.convergence.rhat_max <= 1.01 and post.convergence.ess_min >= 400
+    assert 0.3 < post.acceptance.mean() < 0.9
+
+
+def test_a_short_budget_is_reported_as_not_converged():
+    post = sample_posterior(conjugate(), np.array([4.0]), None,
+                            SamplingSettings(walkers=8, min_steps=60, max_steps=60))
+    assert not post.converged
+    assert post.steps == 60
+    assert "DID NOT CONVERGE" in post.statement() and post.convergence.reasons
+
+
+def test_the_generator_reports_progress_and_ends_with_the_posterior():
+    events = list(sample_steps(conjugate(), np.array([4.0]), None,
+                               SamplingSettings(walkers=8, min_steps=200, max_steps=400,
+                                                chunk=200, report_every=50)))
+    steps = [e.step for e in events if e.verdict is None]
+    assert steps[:4] == [50, 100, 150, 200]
+    assert events[-1].posterior is not None
+    assert [e for e in events if e.verdict is not None][0].step == 200
+    seen = []
+    sample_posterior(conjugate(), np.array([4.0]), None,
+                     SamplingSettings(walkers=8, min_steps=100, max_steps=100),
+                     progress=seen.append)
+    assert seen and seen[-1].posterior is not None
+
+
+def test_judge_flags_stuck_chains():
+    rng = np.random.default_rng(0)
+    chain = rng.standard_normal((3000, 8, 1))
+    chain[:, :4, 0] += 5.0          # half the walkers sit elsewhere
+    verdict, _, _ = judge(("m",), chain)
+    assert not verdict.converged and any("R-hat" in r for r in verdict.reasons)
