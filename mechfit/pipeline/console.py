@@ -40,6 +40,7 @@ def run_ranking(study, mechanisms, settings: RankSettings, folder: Path, *,
                 as_json: bool = False, quiet: bool = False) -> StudyRanking:
     """Rank with a progress bar on stderr, write results and report, print the table."""
     from rich.console import Console
+    from rich.markup import escape
     from rich.progress import BarColumn, Progress, TextColumn, TimeElapsedColumn
 
     from mechfit.report import write_report
@@ -59,7 +60,8 @@ def run_ranking(study, mechanisms, settings: RankSettings, folder: Path, *,
                 task = progress.add_task("fitting candidates", total=item.total)
             elif item.kind == "fitted":
                 progress.update(task, completed=item.done)
-                progress.console.print(f"  {item.key}: {item.status} ({item.seconds:.1f} s)")
+                progress.console.print(escape(f"  {item.key}: {item.status} "
+                                              f"({item.seconds:.1f} s)"))
             elif item.kind == "refits":
                 task = progress.add_task("exact leave-one-run-out refits", total=item.total)
             elif item.kind == "refit":
