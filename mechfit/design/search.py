@@ -39,7 +39,9 @@ class Proposal:
 
 def search(criterion: Callable[[dict[str, float]], float], space: DesignSpace, *,
            n_initial: int = 64, n_refine: int = 4, max_evaluations: int = 60,
-           seed: int = 0) -> list[Proposal]:
+           seed: int = 0,
+           batch: Callable[[list[dict[str, float]]], Sequence[float]] | None = None
+           ) -> list[Proposal]:
     """Maximise ``criterion(values)`` over ``space``; the best proposals first.
 
     Parameters
@@ -52,6 +54,9 @@ def search(criterion: Callable[[dict[str, float]], float], space: DesignSpace, *
         How many of the best Sobol points are refined locally.
     max_evaluations
         Criterion evaluations per local refinement.
+    batch
+        Optional: the criterion of many designs at once (same values as ``criterion``),
+        used for the Sobol points.
     """
     d = space.dimension
     m = max(1, int(np.ceil(np.log2(max(n_initial, 2)))))
@@ -67,6 +72,11 @@ def search(criterion: Callable[[dict[str, float]], float], space: DesignSpace, *
             seen[key] = value if np.isfinite(value) else -np.inf
         return seen[key]
 
+    if batch is not None:
+        designs = [space.decode(np.clip(u, 0.0, 1.0)) for u in points]
+        for values, value in zip(designs, batch(designs), strict=True):
+            seen[tuple(sorted(values.items()))] = float(value) if np.isfinite(value) \
+                else -np.inf
     scores = np.array([score(u) for u in points])
     order = np.argsort(-scores)
     proposals = [Proposal(space.decode(points[i]), float(scores[i]), tuple(points[i]))
