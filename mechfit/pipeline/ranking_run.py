@@ -202,18 +202,14 @@ def _held_out_density(study, outcome: CandidateOutcome, run: str,
     problem = study_problem(study, model)
     lik = Likelihood(problem.model, problem.observations, problem.parameters, problem.errors)
     values = posterior_values(fit.idata)
-    names = lik.parameters.names
-    base = np.array([lik.parameters.values[n] for n in names], dtype=float)
     flat = {n: v.reshape(-1) for n, v in values.items()}
     count = next(iter(flat.values())).size
-    x = np.tile(base, (count, 1))
-    for j, n in enumerate(names):
-        if n in flat:
-            x[:, j] = flat[n]
     take = np.linspace(0, count - 1, min(count, 400)).astype(int)
-    x = x[take]
-    mu = lik.predict(x)
-    pointwise = lik.pointwise_from_prediction(x, mu)
+    # free vectors of the whole-study likelihood, by name (a parameter of the held-out
+    # run alone, such as its time offset, keeps its starting value)
+    u = np.array([lik.parameters.free_vector({n: float(v[i]) for n, v in flat.items()})
+                  for i in take])
+    pointwise = lik.pointwise(u)
     r = lik.observations.run_names.index(run)
     sums = pointwise[:, lik.observations.run == r].sum(axis=1)
     sums = sums[np.isfinite(sums)]

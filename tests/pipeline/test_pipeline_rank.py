@@ -93,3 +93,24 @@ def test_rank_refuses_a_folder_with_results(ranked, study, capsys):
 def test_rank_needs_mechanisms(study, capsys):
     assert main(["rank", str(study / "study.toml")]) == 2
     assert "give one or more candidate mechanism files" in capsys.readouterr().err
+
+
+def test_exact_refit_agrees_with_the_psis_estimate_of_a_well_behaved_run(study):
+    """log p(y_run | other runs) by refitting without the run, against PSIS on run sums
+    (Vehtari, Gelman & Gabry 2017, sec. 2.1: both estimate the same quantity; PSIS is
+    reliable when its Pareto k is small)."""
+    import mechfit
+    from mechfit.compare.run_loo import leave_one_run_out
+    from mechfit.pipeline import FitSettings, evaluate_candidate
+    from mechfit.pipeline.ranking_run import _held_out_density
+
+    s = mechfit.load_study(study / "study.toml")
+    fast = FitSettings(starts=4, max_steps=1500)
+    outcome = evaluate_candidate(s, mechfit.load_mechanism(study / "first.mech"), "full", fast)
+    assert outcome.ok, outcome.reason
+    psis = leave_one_run_out(outcome.idata, "y", outcome.point_runs)
+    i = list(psis.labels).index("r2")
+    exact = _held_out_density(s, outcome, "r2", fast)
+    assert np.isfinite(exact)
+    if psis.pareto_k[i] < 0.7:
+        assert abs(exact - psis.pointwise[i]) < 3.0
