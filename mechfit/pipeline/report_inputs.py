@@ -7,7 +7,8 @@ what is on disk and never recomputes a fit.
 Folder layout: ``ranking.json`` (the ranking, the study's title, ranges and units);
 ``candidates/<name>__<variant>/`` with ``posterior.nc`` (InferenceData), ``fit.json``
 (parameter summaries, identifiability, the fitted curves under ``series``) and
-``mechanism.mech``.
+``mechanism.mech``; and ``design.json`` once ``mechfit design`` has run (its sentences
+fill the report's next-experiments section).
 """
 
 from __future__ import annotations
@@ -20,6 +21,7 @@ import numpy as np
 from scipy import constants
 
 from mechfit.derive import DerivationError, derive_rate_law, derive_variant
+from mechfit.design.suggestions import design_suggestions
 from mechfit.errors import MechfitError
 from mechfit.mechanism import load_mechanism, species_step_graph
 from mechfit.report import (
@@ -257,5 +259,5 @@ def report_data_from_folder(folder: str | Path) -> ReportData:
         title=study.get("title") or "mechfit ranking", ranges=ranges, candidates=candidates,
         weights=weights, verdict_notes=[n for n in notes if n], networks=networks,
         invented=bool(study.get("invented")), invented_note=study.get("note", ""),
-        design_suggestions=list(ranking.get("design_suggestions", [])),
+        design_suggestions=design_suggestions(folder),
         generated=f"mechfit {ranking.get('version', '')}".strip())
