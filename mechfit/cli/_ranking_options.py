@@ -26,3 +26,17 @@ def settings_from(args) -> RankSettings:
     fit = FitSettings(starts=args.starts, max_steps=args.max_steps, seed=args.seed)
     return RankSettings(variants=args.variants, fit=fit, workers=max(1, args.workers),
                         exact_refits=not args.no_refits)
+
+
+def add_budget_options(p) -> None:
+    """The fitting-budget options alone (``--starts``, ``--max-steps``, ``--seed``), for
+    verbs that fit but do no leave-one-run-out refits (``mechfit batch``)."""
+    p.add_argument("--starts", type=int, default=16, help="maximum-likelihood starts")
+    p.add_argument("--max-steps", type=int, default=6000,
+                   help="sampling budget per walker (default 6000)")
+    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
+
+
+def fit_settings_from(args) -> FitSettings:
+    """The :class:`FitSettings` of the options added by :func:`add_budget_options`."""
+    return FitSettings(starts=args.starts, max_steps=args.max_steps, seed=args.seed)
