@@ -6,7 +6,8 @@ Public surface: :class:`Simulator` (compile a model once, then
 See ``docs/simulate.md`` for the method notes.
 """
 
+from mechfit.simulate.approximation import deviation_from_full
 from mechfit.simulate.batch import Result, SimulationInputError, Simulator
 from mechfit.simulate.integrator import REASONS
 
-__all__ = ["REASONS", "Result", "SimulationInputError", "Simulator"]
+__all__ = ["REASONS", "Result", "SimulationInputError", "Simulator", "deviation_from_full"]
