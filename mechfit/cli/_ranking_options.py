@@ -1,4 +1,4 @@
-"""Options shared by ``mechfit rank`` and ``mechfit demo``."""
+"""Options shared by the verbs that fit candidates (``rank``, ``demo``, ``batch``)."""
 
 from __future__ import annotations
 
@@ -7,30 +7,8 @@ import os
 from mechfit.pipeline import FitSettings, RankSettings
 
 
-def add_fit_options(p) -> None:
-    p.add_argument("--variants", default="full",
-                   help="variants per mechanism: 'full' (default), 'all', or a list such as "
-                        "'full,qssa:all'")
-    p.add_argument("--workers", type=int, default=min(2, os.cpu_count() or 1),
-                   help="candidates fitted at once in separate processes (default: 2)")
-    p.add_argument("--starts", type=int, default=16, help="maximum-likelihood starts")
-    p.add_argument("--max-steps", type=int, default=6000,
-                   help="sampling budget per walker (default 6000)")
-    p.add_argument("--no-refits", action="store_true",
-                   help="skip exact refits for leave-one-run-out (faster, approximate)")
-    p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
-    p.add_argument("--json", action="store_true", help="print one JSON object on stdout")
-
-
-def settings_from(args) -> RankSettings:
-    fit = FitSettings(starts=args.starts, max_steps=args.max_steps, seed=args.seed)
-    return RankSettings(variants=args.variants, fit=fit, workers=max(1, args.workers),
-                        exact_refits=not args.no_refits)
-
-
 def add_budget_options(p) -> None:
-    """The fitting-budget options alone (``--starts``, ``--max-steps``, ``--seed``), for
-    verbs that fit but do no leave-one-run-out refits (``mechfit batch``)."""
+    """The fitting-budget options (``--starts``, ``--max-steps``, ``--seed``)."""
     p.add_argument("--starts", type=int, default=16, help="maximum-likelihood starts")
     p.add_argument("--max-steps", type=int, default=6000,
                    help="sampling budget per walker (default 6000)")
@@ -40,3 +18,21 @@ def add_budget_options(p) -> None:
 def fit_settings_from(args) -> FitSettings:
     """The :class:`FitSettings` of the options added by :func:`add_budget_options`."""
     return FitSettings(starts=args.starts, max_steps=args.max_steps, seed=args.seed)
+
+
+def add_fit_options(p) -> None:
+    """The options of ``rank`` and ``demo``: variants, workers, budget, refits, JSON."""
+    p.add_argument("--variants", default="full",
+                   help="variants per mechanism: 'full' (default), 'all', or a list such as "
+                        "'full,qssa:all'")
+    p.add_argument("--workers", type=int, default=min(2, os.cpu_count() or 1),
+                   help="candidates fitted at once in separate processes (default: 2)")
+    add_budget_options(p)
+    p.add_argument("--no-refits", action="store_true",
+                   help="skip exact refits for leave-one-run-out (faster, approximate)")
+    p.add_argument("--json", action="store_true", help="print one JSON object on stdout")
+
+
+def settings_from(args) -> RankSettings:
+    return RankSettings(variants=args.variants, fit=fit_settings_from(args),
+                        workers=max(1, args.workers), exact_refits=not args.no_refits)
