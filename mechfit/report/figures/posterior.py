@@ -22,6 +22,7 @@ from collections.abc import Mapping, Sequence
 import numpy as np
 from matplotlib.figure import Figure
 
+from mechfit.infer.diagnostics import arviz
 from mechfit.report.errors import ReportError
 from mechfit.report.figures.canvas import BAND_COLOUR, new_figure, styled
 
@@ -29,14 +30,8 @@ from mechfit.report.figures.canvas import BAND_COLOUR, new_figure, styled
 MAX_VARIABLES = 6
 
 
-def arviz_module():
-    """arviz, imported on first use without its import-time FutureWarning."""
-    import warnings
-
-    with warnings.catch_warnings():
-        warnings.simplefilter("ignore", FutureWarning)
-        import arviz
-    return arviz
+# one quiet import of arviz for the whole package (see mechfit.infer.diagnostics)
+arviz_module = arviz
 
 
 def load_posterior(path: str | os.PathLike):
