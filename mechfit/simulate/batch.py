@@ -402,8 +402,8 @@ class Simulator:
                 counts, y0, parameters, initial, np.full(n_sys, rtol), atol_rows, sens_init,
                 sens_atol, dirpos, max_steps, tables.stack_size, conc, sens, status, steps,
                 reached)
-        for s in range(n_sys):
-            if status[s] != 0 and not reasons[s]:
+        for s in np.flatnonzero(status):
+            if not reasons[s]:
                 reasons[s] = f"{integrator.REASONS[int(status[s])]}; stopped at t = " \
                              f"{reached[s]:.6g} after {steps[s]} steps"
         return Result(self.species, _padded(times, counts), counts.copy(), conc, status == 0,
@@ -454,16 +454,19 @@ def _output_times(times, counts) -> tuple[np.ndarray, np.ndarray]:
             np.any(counts > times.shape[1]):
         raise SimulationInputError("counts must give, per row of times, how many entries "
                                    "are used")
-    for s in range(times.shape[0]):
-        t = times[s, : counts[s]]
-        if not np.all(np.isfinite(t)) or np.any(t < 0) or np.any(np.diff(t) < 0):
-            raise SimulationInputError(
-                f"output times of system {s} must be finite, >= 0 and non-decreasing")
+    used = np.arange(times.shape[1])[None, :] < counts[:, None]
+    bad = np.any(used & ~(times >= 0), axis=1)  # NaN, infinite or negative
+    bad |= np.any(used & np.isinf(times), axis=1)
+    if times.shape[1] > 1:
+        bad |= np.any(used[:, 1:] & (np.diff(times, axis=1) < 0), axis=1)
+    if bad.any():
+        raise SimulationInputError(
+            f"output times of system {int(np.flatnonzero(bad)[0])} must be finite, >= 0 and "
+            "non-decreasing")
     return np.ascontiguousarray(times), np.ascontiguousarray(counts)
 
 
 def _padded(times: np.ndarray, counts: np.ndarray) -> np.ndarray:
     out = times.astype(float).copy()
-    for s in range(out.shape[0]):
-        out[s, counts[s]:] = np.nan
+    out[np.arange(out.shape[1])[None, :] >= counts[:, None]] = np.nan
     return out
