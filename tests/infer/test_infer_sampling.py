@@ -75,3 +75,62 @@ def test_judge_flags_stuck_chains():
     chain[:, :4, 0] += 5.0          # half the walkers sit elsewhere
     verdict, _, _ = judge(("m",), chain)
     assert not verdict.converged and any("R-hat" in r for r in verdict.reasons)
+
+
+class _Trapped:
+    """The conjugate posterior plus a flat plateau 200 nats below it beyond m = 10.
+
+    A walker on the plateau moves by the ensemble's small difference vectors and
+    random-walks there (as a walker does where a rate constant is so large that the
+    prediction no longer depends on it)."""
+
+    def __init__(self):
+        self.base = conjugate()
+        self.parameters = self.base.parameters
+
+    def log_posterior(self, u):
+        u = np.atleast_2d(u)
+        return np.where(u[:, 0] > 10.0, -200.0, self.base.log_posterior(u))
+
+
+def test_a_walker_stuck_in_a_far_local_mode_is_restarted_and_said(monkeypatch):
+    import mechfit.infer.sampling as sampling
+
+    real = sampling.starting_ball
+
+    def one_walker_in_the_trap(*args, **kwargs):
+        pos = real(*args, **kwargs)
+        pos[0] = 30.0
+        return pos
+
+    monkeypatch.setattr(sampling, "starting_ball", one_walker_in_the_trap)
+    lik = _Trapped()
+    events = list(sampling.sample_steps(lik, np.array([4.0]), np.array([[0.03]]),
+                                        SamplingSettings(walkers=16, min_steps=300,
+                                                         max_steps=6000, seed=3)))
+    post = events[-1].posterior
+    assert post.restarts and post.restarts[0][1] == 1
+    assert "stuck walker" in post.statement()
+    # nothing of the trap is left in the kept draws
+    assert np.all(np.abs(post.flat()[:, 0] - 4.0) < 2.0)
+
+
+def test_stuck_walkers_are_not_confused_with_tail_draws():
+    from mechfit.infer.sampling import stuck_walkers
+
+    rng = np.random.default_rng(0)
+    q = 9
+    # around a mode 2 (lp_max - lp) is chi-square(q) (common practice)
+    lp = -0.5 * rng.chisquare(q, size=(2000, 40))
+    assert stuck_walkers(lp, q).size == 0
+    lp[:, 7] -= 60.0
+    assert stuck_walkers(lp, q).tolist() == [7]
+
+
+def test_next_check_extrapolates_rhat_but_at_most_doubles_the_chain():
+    from mechfit.infer.sampling import _steps_for_rhat
+
+    assert _steps_for_rhat(1.005, 1.01, 1000) == 1000          # already fine
+    n = _steps_for_rhat(1.012, 1.01, 3000)                      # R^2 - 1 ~ 1/n
+    assert 3000 < n < 6000 and n == pytest.approx(1.1 * 3000 * (1.012**2 - 1) / 0.0201, abs=1)
+    assert _steps_for_rhat(1.3, 1.01, 1000) == 2000
