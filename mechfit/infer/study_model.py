@@ -202,9 +202,15 @@ def _observable_function(observable, species: tuple[str, ...]):
     return function, args, gradient
 
 
-def study_problem(study, kinetic_model, *, rtol: float = 1e-8, simulator=None,
+def study_problem(study, kinetic_model, *, rtol: float = 1e-6, simulator=None,
                   sensitivities: bool = True) -> StudyProblem:
     """Build the :class:`StudyProblem` of a study and a kinetic model (see the module docs).
+
+    ``rtol`` is the simulator's relative tolerance (absolute: 1e-4 ``rtol`` times the
+    largest initial concentration of each run). The default 1e-6 keeps integration
+    error far below any data's noise (common practice); on the demo the log-likelihood
+    differs from a 1e-8 solve by less than 0.05 at points one standard deviation from
+    the optimum, while a likelihood call costs 0.6 times as much.
 
     ``sensitivities=False`` leaves the Jacobian to batched central differences.
     """
