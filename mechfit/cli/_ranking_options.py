@@ -10,8 +10,9 @@ from mechfit.pipeline import FitSettings, RankSettings
 def add_budget_options(p) -> None:
     """The fitting-budget options (``--starts``, ``--max-steps``, ``--seed``)."""
     p.add_argument("--starts", type=int, default=16, help="maximum-likelihood starts")
-    p.add_argument("--max-steps", type=int, default=6000,
-                   help="sampling budget per walker (default 6000)")
+    p.add_argument("--max-steps", type=int, default=10000,
+                   help="sampling budget per walker; sampling stops earlier once it has "
+                        "converged (default 10000)")
     p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
 
 

@@ -18,9 +18,6 @@ def add_arguments(p) -> None:
     p.add_argument("--out", type=Path, default=None,
                    help="results folder (new; default mechfit-results/demo-<time>)")
     add_fit_options(p)
-    # the demo's budget is smaller than rank's: a candidate that has not converged by
-    # then is reported as such (the report says so), and the demo stays quick
-    p.set_defaults(max_steps=2400)
 
 
 def run(args) -> int:

@@ -31,9 +31,9 @@ class FitSettings:
     starts: int = 16
     local: int = 3
     walkers: int | None = None
-    min_steps: int = 600
-    chunk: int = 600
-    max_steps: int = 6000
+    min_steps: int = 1000
+    chunk: int = 500
+    max_steps: int = 10000
     seed: int = 0
 
     def sampling(self) -> SamplingSettings:
