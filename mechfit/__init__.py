@@ -26,7 +26,6 @@ from mechfit.mechanism import (
     parse_expression,
     parse_mechanism,
 )
-
 from mechfit.study import load_study  # noqa: E402  (after the mechanism layer it builds on)
 
 __version__ = "0.1.0.dev0"
