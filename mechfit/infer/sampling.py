@@ -21,7 +21,7 @@ The sampler runs in chunks; after each chunk the chain is judged by
 :func:`mechfit.infer.diagnostics.judge` (run length >= 50 tau, R-hat <= 1.01, bulk and
 tail ESS >= 400). Split R-hat over walkers falls roughly as ``R^2 - 1 ~ 2 tau / n``
 for chains of n steps, so the next check is placed where that extrapolation reaches
-the threshold (at least one chunk later, at most twice the steps so far). The
+the threshold (at least one chunk later, at most 1.5 times the steps so far). The
 sampler stops when the rules are met, or when the budget of steps is spent, and
 then says plainly that it did not converge. No blobs are carried (they do not work
 with ``vectorize=True``, dfm/emcee issue 516): pointwise log-likelihoods are computed
@@ -359,13 +359,13 @@ def _restart_walkers(state, stuck: np.ndarray, rng: np.random.Generator):
 def _steps_for_rhat(rhat: float, target: float, steps: int) -> int:
     """Chain length at which ``R^2 - 1 ~ 1 / n`` extrapolates below ``target`` (+10 %).
 
-    Capped at twice ``steps``: early in a run R-hat still carries the burn-in, and
+    Capped at 1.5 times ``steps``: early in a run R-hat still carries the burn-in, and
     extrapolating from it would overshoot.
     """
     if not (np.isfinite(rhat) and rhat > target):
         return steps
     wanted = 1.1 * steps * (rhat ** 2 - 1.0) / (target ** 2 - 1.0)
-    return int(math.ceil(min(wanted, 2 * steps)))
+    return int(math.ceil(min(wanted, 1.5 * steps)))
 
 
 def sample_posterior(
