@@ -17,7 +17,12 @@ from pathlib import Path
 
 import numpy as np
 
-from mechfit.infer.identifiability import Identifiability, analyse_identifiability
+from mechfit.infer.half_conversion import HalfConversion, half_conversion_times
+from mechfit.infer.identifiability import (
+    Identifiability,
+    analyse_identifiability,
+    lumped_parameters,
+)
 from mechfit.infer.inference_data import (
     ResultExistsError,
     inference_data,
@@ -27,7 +32,12 @@ from mechfit.infer.likelihood import Likelihood
 from mechfit.infer.optimize import MaximumLikelihood, maximum_likelihood
 from mechfit.infer.sampling import Posterior, SamplingSettings, sample_posterior
 from mechfit.infer.study_model import StudyProblem, study_problem
-from mechfit.infer.summaries import Summary, derived_quantities, summarise_parameters
+from mechfit.infer.summaries import (
+    Summary,
+    derived_quantities,
+    posterior_values,
+    summarise_parameters,
+)
 
 RESULT_FILES = ("posterior.nc", "fit.json")
 
@@ -59,6 +69,7 @@ class StudyFit:
     parameters: dict[str, Summary]
     derived: dict[str, Summary]
     labels: dict = field(default_factory=dict)
+    half_conversion: list[HalfConversion] = field(default_factory=list)
 
     @property
     def converged(self) -> bool:
@@ -90,6 +101,7 @@ class StudyFit:
             "derived": {n: {k: _json_number(x) for k, x in s.summary().items()
                             if k in ("median", "hdi_low", "hdi_high")} | {"unit": s.unit}
                         for n, s in self.derived.items()},
+            "half_conversion": [_clean(h.summary()) for h in self.half_conversion],
             "units": "canonical: mol/L, s, K, J/mol",
             "cautions": list(CAUTIONS),
         }
@@ -108,6 +120,9 @@ class StudyFit:
         lines += [s.text() for s in self.parameters.values()]
         if self.derived:
             lines += ["", "derived quantities"] + [s.text() for s in self.derived.values()]
+        if self.half_conversion:
+            lines += ["", "half-lives under the conditions of each run"]
+            lines += [h.text() for h in self.half_conversion]
         lines += ["", "identifiability", self.identifiability.report(), ""]
         lines += ["caution: " + c for c in CAUTIONS]
         return "\n".join(lines)
@@ -139,6 +154,20 @@ def _clean(obj):
     if isinstance(obj, float | np.floating):
         return _json_number(obj)
     return obj
+
+
+def _lumped(model, idata) -> list:
+    """Posteriors of the lumped parameters of a reduced variant's rate law (else [])."""
+    from mechfit.derive import derive_rate_law
+    from mechfit.errors import MechfitError
+
+    if model.name == "full":
+        return []
+    try:
+        law = derive_rate_law(model)
+    except MechfitError:  # no closed form (a numerical steady state): nothing lumped
+        return []
+    return lumped_parameters(law, posterior_values(idata))
 
 
 def check_output_folder(folder: str | Path) -> None:
@@ -198,6 +227,7 @@ def fit_study(
     post = sample_posterior(lik, fit.u, fit.covariance_free, settings, progress=progress)
     idata = inference_data(post, fit=fit, seed=seed)
     ident = analyse_identifiability(fit, post)
+    ident.lumped = _lumped(model, idata)
     summaries = summarise_parameters(idata)
     derived = derived_quantities(idata, mechanism=model.mechanism, laws=problem.laws,
                                  temperatures=study.temperatures)
@@ -205,4 +235,5 @@ def fit_study(
               "study": str(study.path)}
     idata.posterior.attrs.update({"mechanism": model.mechanism.name, "variant": model.name,
                                   "study": str(study.path)})
-    return StudyFit(problem, lik, fit, post, idata, ident, summaries, derived, labels)
+    half = half_conversion_times(problem, fit.u, post.flat(), mechanism=model.mechanism)
+    return StudyFit(problem, lik, fit, post, idata, ident, summaries, derived, labels, half)

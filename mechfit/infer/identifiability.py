@@ -23,6 +23,13 @@ Prior-dominated parameters
     standard deviation; the threshold is a mechfit convention).
 Posterior combinations
     The same eigen-analysis on the posterior covariance of the sampling coordinates.
+Lumped parameters of a reduced variant
+    A steady-state or pre-equilibrium rate law depends on the elementary constants
+    only through its lumped parameters (:attr:`mechfit.derive.RateLaw.lumped`, such as
+    ``k1 k2 / (k_1 + k2)``): these are the identifiable combinations the derivation
+    predicts. Each is evaluated on every posterior draw (at the reference temperature
+    of the constants) and called *determined* when the posterior standard deviation of
+    its logarithm is at most 1, the same rule as for a sloppy direction.
 """
 
 from __future__ import annotations
@@ -37,6 +44,77 @@ from mechfit.infer.sampling import Posterior
 SLOPPY_SD = 1.0
 CORRELATION_LIMIT = 0.95
 CONTRACTION_MIN = 0.1
+
+
+@dataclass
+class LumpedSummary:
+    """A lumped parameter of the rate law with its posterior."""
+
+    name: str
+    expression: str
+    median: float
+    hdi_low: float
+    hdi_high: float
+    sd_log: float
+
+    @property
+    def determined(self) -> bool:
+        return bool(self.sd_log <= SLOPPY_SD)
+
+    def summary(self) -> dict:
+        return {"name": self.name, "expression": self.expression, "median": self.median,
+                "hdi_low": self.hdi_low, "hdi_high": self.hdi_high, "sd_log": self.sd_log,
+                "determined": self.determined}
+
+    def text(self) -> str:
+        verdict = "determined" if self.determined else "NOT determined"
+        return (f"lumped {self.name} = {self.expression}: median {self.median:.4g} "
+                f"(95 % HDI {self.hdi_low:.4g} to {self.hdi_high:.4g}), sd of its log "
+                f"{self.sd_log:.3g}: {verdict}")
+
+
+def lumped_parameters(law, values: dict[str, np.ndarray]) -> list[LumpedSummary]:
+    """Posterior of each lumped parameter of ``law`` from the draws ``values`` (by name).
+
+    Lumped parameters that involve anything but the sampled constants (a conserved
+    total, for instance) are left out.
+
+    Examples
+    --------
+    >>> from mechfit import parse_mechanism
+    >>> from mechfit.derive import derive_rate_law
+    >>> from mechfit.derive.steady_state import steady_state_model
+    >>> law = derive_rate_law(steady_state_model(
+    ...     parse_mechanism("E + S <=> ES @ k1, k_1\\nES -> E + P @ k2")))
+    >>> rng = np.random.default_rng(0)
+    >>> draws = {"k1": np.exp(rng.normal(0, 0.01, 500)), "k_1": np.full(500, 2.0),
+    ...          "k2": np.full(500, 3.0)}
+    >>> [(x.name, round(x.median, 2), x.determined) for x in lumped_parameters(law, draws)]
+    [('a1', 0.6, True), ('b1', 0.2, True)]
+    """
+    import arviz as az
+    import sympy
+
+    from mechfit.derive.printing import plain_text
+
+    out = []
+    for p in law.parameters:
+        expr = p.expression
+        free = sorted(expr.free_symbols, key=lambda x: x.name)
+        if not free or any(x.name not in values for x in free):
+            continue
+        function = sympy.lambdify(free, expr, modules="numpy")
+        with np.errstate(all="ignore"):
+            draws = np.asarray(function(*[np.asarray(values[x.name], float).reshape(-1)
+                                          for x in free]), float)
+        draws = np.broadcast_to(draws, np.asarray(values[free[0].name]).reshape(-1).shape)
+        draws = draws[np.isfinite(draws) & (draws > 0)]
+        if draws.size < 10:
+            continue
+        low, high = az.hdi(draws, hdi_prob=0.95)
+        out.append(LumpedSummary(p.name, plain_text(expr), float(np.median(draws)),
+                                 float(low), float(high), float(np.std(np.log(draws)))))
+    return out
 
 
 @dataclass
@@ -113,6 +191,7 @@ class Identifiability:
     correlation: np.ndarray | None = None
     correlated_pairs: list[tuple[str, str, float]] = field(default_factory=list)
     contraction: dict[str, float] = field(default_factory=dict)
+    lumped: list[LumpedSummary] = field(default_factory=list)
 
     @property
     def sloppy(self) -> list[Direction]:
@@ -137,6 +216,7 @@ class Identifiability:
             "correlated_pairs": [{"a": a, "b": b, "r": r} for a, b, r in self.correlated_pairs],
             "prior_dominated": self.prior_dominated,
             "contraction": self.contraction,
+            "lumped_parameters": [x.summary() for x in self.lumped],
             "rules": {"sloppy_sd_log": SLOPPY_SD, "correlation": CORRELATION_LIMIT,
                       "contraction_min": CONTRACTION_MIN},
         }
@@ -154,6 +234,7 @@ class Identifiability:
                          f"(contraction {self.contraction[n]:.3f})")
         if self.identifiable_combinations:
             lines.append("identifiable: " + "; ".join(self.identifiable_combinations))
+        lines += [x.text() for x in self.lumped]
         return "\n".join(lines)
 
 

@@ -35,6 +35,7 @@ observables are not supported here yet; asking for them raises a clear error.
 
 from __future__ import annotations
 
+from collections.abc import Callable
 from dataclasses import dataclass
 
 import numpy as np
@@ -71,6 +72,9 @@ class StudyProblem:
     errors: dict[str, ErrorModel]
     laws: dict
     simulator: object
+    #: ``concentrations(x, grid)``: every species of every run on a time grid (see
+    #: :func:`mechfit.infer.half_conversion.half_conversion_times`)
+    concentrations: Callable | None = None
 
 
 def convert_prior(prior, *, positive: bool) -> Prior:
@@ -293,11 +297,11 @@ def study_problem(study, kinetic_model, *, rtol: float = 1e-6, simulator=None,
                 prior = convert_prior(study.priors[a_name], positive=True)
                 params.append(_parameter(a_name, prior, "log", "noise", "study prior"))
     parameters = Parameters(tuple(params))
-    model = _model_function(study, kinetic_model, sim, laws, parameters, functions, picks,
-                            observations)
+    model, concentrations = _model_function(study, kinetic_model, sim, laws, parameters,
+                                            functions, picks, observations)
     if not sensitivities:
         model = ModelFunction(model.parameter_names, model.predict)
-    return StudyProblem(observations, model, parameters, errors, laws, sim)
+    return StudyProblem(observations, model, parameters, errors, laws, sim, concentrations)
 
 
 def _model_function(study, kinetic_model, sim, laws, parameters, functions, picks,
@@ -321,7 +325,7 @@ def _model_function(study, kinetic_model, sim, laws, parameters, functions, pick
         start += n
     n_data = observations.n
 
-    def solve(x: np.ndarray, sensitivities):
+    def solve(x: np.ndarray, sensitivities, grid: np.ndarray | None = None):
         m = x.shape[0]
         values = {n: x[:, i] for n, i in column.items()}
         rate = np.empty((n_runs, m, len(sim.parameters)))
@@ -335,12 +339,17 @@ def _model_function(study, kinetic_model, sim, laws, parameters, functions, pick
             else:
                 rate[:, :, j] = fixed[p]
         initial = np.repeat(nominal[:, None, :], m, axis=1)
-        time_rows = np.full((n_runs, m, width), np.nan)
+        columns = width if grid is None else grid.shape[1]
+        time_rows = np.full((n_runs, m, columns), np.nan)
         counts = np.empty((n_runs, m), dtype=np.int64)
         for r, run in enumerate(runs):
             if scales[r] is not None:
                 cols = [species.index(s) for s in scales[r].species]
                 initial[r][:, cols] *= values[scales[r].parameter][:, None]
+            if grid is not None:  # times from the start of the reaction
+                time_rows[r] = grid[r][None, :]
+                counts[r] = columns
+                continue
             t0 = offsets[r]
             shift = (values[t0.parameter] if t0 is not None and t0.fitted
                      else np.full(m, t0.value if t0 is not None else 0.0))
@@ -349,10 +358,10 @@ def _model_function(study, kinetic_model, sim, laws, parameters, functions, pick
             counts[r] = k
         bad_time = np.any(time_rows[..., 0] < 0, axis=0) if n_runs else np.zeros(m, bool)
         time_rows = np.where(time_rows < 0, 0.0, time_rows)
-        result = sim.solve(time_rows.reshape(n_runs * m, width),
+        result = sim.solve(time_rows.reshape(n_runs * m, columns),
                            initial.reshape(n_runs * m, -1), rate.reshape(n_runs * m, -1),
                            counts=counts.reshape(-1), sensitivities=sensitivities)
-        conc = result.concentrations.reshape(n_runs, m, width, len(species))
+        conc = result.concentrations.reshape(n_runs, m, columns, len(species))
         ok = np.asarray(result.ok).reshape(n_runs, m).all(axis=0) & ~bad_time
         return values, initial, conc, ok, result, rate
 
@@ -438,5 +447,14 @@ def _model_function(study, kinetic_model, sim, laws, parameters, functions, pick
         jac[~ok] = np.nan
         return out, jac
 
+    def concentrations(x: np.ndarray, grid: np.ndarray) -> tuple[np.ndarray, ...]:
+        """Every species of every run on ``grid`` (runs, G) of times from the start:
+        (runs, m, G, species), whether each run solved (runs, m), and the initial
+        concentrations given to the simulator (runs, m, species)."""
+        _values, initial, conc, _ok, result, _rate = solve(x, False, np.asarray(grid, float))
+        solved = np.asarray(result.ok).reshape(n_runs, x.shape[0])
+        return conc, solved, initial
+
     fitted_offsets = any(t is not None and t.fitted for t in offsets)
-    return ModelFunction(names, predict, None if fitted_offsets else sensitivities)
+    return (ModelFunction(names, predict, None if fitted_offsets else sensitivities),
+            concentrations)

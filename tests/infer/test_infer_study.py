@@ -128,3 +128,20 @@ def test_demo_study_true_mechanism_recovers_the_truth_within_the_hdis(tmp_path):
         p = s["parameters"][name]
         assert p["hdi_low"] < value < p["hdi_high"], (name, value, p)
     assert s["converged"] == (result.maximum.converged and result.posterior.converged)
+
+
+def test_half_lives_of_a_first_order_reaction_are_ln2_over_k(study_files):
+    # first order: t1/2 = ln 2 / k at the run's temperature, whatever [A]0
+    # (Atkins' Physical Chemistry, 11th ed., 2018, topic 17B, eq. 17B.3)
+    study = load_study(study_files[0])
+    model = derive_variant(parse_mechanism("A -> P @ k1"), "full")
+    fit = fit_study(study, model, starts=4, local=1,
+                    settings=SamplingSettings(walkers=8, min_steps=800, max_steps=800))
+    found = {h["run"]: h for h in fit.summary()["half_conversion"]}
+    assert set(found) == {"r1", "r2", "r3"}
+    for run, t_c in (("r1", 25.0), ("r2", 35.0), ("r3", 35.0)):
+        k = K_REF * math.exp(-EA / R * (1 / (t_c + 273.15) - 1 / T_REF))
+        h = found[run]
+        assert h["species"] == "A" and h["unit"] == "s"
+        assert h["hdi_low"] <= math.log(2) / k <= h["hdi_high"]
+        assert h["median"] == pytest.approx(math.log(2) / k, rel=0.05)
