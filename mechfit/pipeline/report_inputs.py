@@ -230,13 +230,25 @@ def report_data_from_folder(folder: str | Path) -> ReportData:
         elif sampling.get("statement"):
             notes.append("posterior " + sampling["statement"])
         ident = fit.get("identifiability", {})
-        for d in ident.get("sloppy", []) or []:
-            notes.append(f"poorly determined direction: {d}" if isinstance(d, str) else
-                         f"poorly determined direction: {d.get('text', d)}")
+        for d in ident.get("sloppy_directions", []) or []:
+            notes.append(f"poorly determined direction: {d.get('combination', d)} (sd of its "
+                         f"log {d.get('sd_log', float('nan')):.3g})")
         for name in ident.get("prior_dominated", []) or []:
             notes.append(f"{name}: the posterior is no narrower than the prior")
         for combo in ident.get("identifiable_combinations", []) or []:
             notes.append(f"identifiable combination: {combo}")
+        for x in ident.get("lumped_parameters", []) or []:
+            notes.append(f"lumped parameter of the rate law {x['name']} = {x['expression']}: "
+                         f"median {x['median']:.4g} (95 % HDI {x['hdi_low']:.4g} to "
+                         f"{x['hdi_high']:.4g}), "
+                         + ("determined" if x["determined"] else "NOT determined"))
+        for h in fit.get("half_conversion", []) or []:
+            notes.append(
+                f"half-life of {h['species']} under the conditions of run {h['run']}: "
+                + (f"{h['median']:.4g} s (95 % HDI {h['hdi_low']:.4g} to {h['hdi_high']:.4g})"
+                   if h.get("median") is not None else
+                   f"not reached by {100 * h['reached']:.0f} % of the draws within "
+                   f"{h['horizon']:.4g} s"))
         candidates.append(CandidateReport(
             name=c["name"], variant=c["variant"], ranking=_ranking_row(c),
             parameters=_parameter_rows(fit), runs=_runs(fit, idata, temperatures),
