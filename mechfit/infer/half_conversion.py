@@ -64,8 +64,8 @@ def first_crossing(grid: np.ndarray, values: np.ndarray, level: np.ndarray) -> n
     --------
     >>> t = np.linspace(0.0, 4.0, 401)
     >>> c = np.exp(-t)[None, :]
-    >>> round(float(first_crossing(t, c, np.array([0.5]))[0]), 4)   # ln 2
-    0.6931
+    >>> round(float(first_crossing(t, c, np.array([0.5]))[0]), 3)   # ln 2
+    0.693
     """
     below = values <= level[:, None]
     hit = below.any(axis=1)
