@@ -22,6 +22,11 @@ from mechfit.mechanism import Mechanism, parse_mechanism
 
 #: posterior draws used for the predictive bands of the figures
 BAND_DRAWS = 200
+#: largest tolerated deviation of a reduced variant from the full mechanism, as a
+#: fraction of each species' largest concentration in a run (a mechfit convention: a few
+#: per cent is where the steady-state literature calls an approximation good, e.g.
+#: Segel and Slemrod, SIAM Rev. 31 (1989) 446)
+APPROXIMATION_TOLERANCE = 0.05
 
 
 @dataclass(frozen=True)
@@ -86,6 +91,7 @@ class CandidateOutcome:
     series: list[SeriesOutcome] = field(default_factory=list, repr=False)
     identifiability: dict = field(default_factory=dict, repr=False)
     assumptions: tuple[str, ...] = ()
+    approximation: dict = field(default_factory=dict)
 
     @property
     def key(self) -> str:
@@ -129,6 +135,42 @@ def _series(fit: StudyFit) -> list[SeriesOutcome]:
     return out
 
 
+def approximation_deviation(study, fit: StudyFit, model) -> dict:
+    """How far a reduced variant strays from its full mechanism at the best fit.
+
+    Every run is simulated with both models from its own initial concentrations, with
+    the rate constants at its temperature, up to its last measurement
+    (:func:`mechfit.simulate.deviation_from_full`). Returns ``{}`` for ``full``, else
+    ``deviation`` (largest over runs), ``run``, ``species`` and ``tolerance``.
+    """
+    from mechfit.simulate import deviation_from_full
+
+    if model.name == "full":
+        return {}
+    values = fit.maximum.values
+    laws = fit.problem.laws
+    constants = [p for p in model.mechanism.parameters]
+    worst = {"deviation": 0.0, "run": "", "species": "",
+             "tolerance": APPROXIMATION_TOLERANCE}
+    for run in study.runs:
+        k = dict(model.mechanism.fixed)
+        for c in constants:
+            if c in laws:
+                law = laws[c]
+                k[c] = float(np.asarray(law.rate_constant(
+                    {q: values[q] for q in law.parameter_names}, run.temperature)))
+            elif c in values:
+                k[c] = float(values[c])
+        initial = dict(run.initial)
+        if run.initial_scale is not None:
+            for sp in run.initial_scale.species:
+                initial[sp] = initial.get(sp, 0.0) * values[run.initial_scale.parameter]
+        deviation, species = deviation_from_full(model, k, initial, float(run.times.max()))
+        if not deviation <= worst["deviation"]:
+            worst.update(deviation=float(deviation), run=run.name, species=species)
+    return worst
+
+
 def evaluate_candidate(study, mechanism: Mechanism, variant: str,
                        settings: FitSettings = FitSettings(),  # noqa: B008
                        progress=False) -> CandidateOutcome:
@@ -146,6 +188,7 @@ def evaluate_candidate(study, mechanism: Mechanism, variant: str,
         model = derive_variant(mechanism, variant)
         fit = fit_study(study, model, starts=settings.starts, local=settings.local,
                         settings=settings.sampling(), progress=progress, seed=settings.seed)
+        approximation = approximation_deviation(study, fit, model)
     except MechfitError as exc:
         return CandidateOutcome(**base, status="failed", reason=str(exc).splitlines()[0],
                                 seconds=time.perf_counter() - start)
@@ -159,13 +202,15 @@ def evaluate_candidate(study, mechanism: Mechanism, variant: str,
     series = _series(fit)
     summary.update({"name": mechanism.name, "variant": variant,
                     "series": [x.as_dict() for x in series]})
+    if approximation:
+        summary["approximation"] = approximation
     return CandidateOutcome(
         **base, status="ok", seconds=time.perf_counter() - start, idata=fit.idata,
         summary=summary, log_likelihood_max=float(fit.maximum.log_likelihood_max),
         n_parameters=len(fit.likelihood.parameters.free_names), n_data=int(obs.n),
         point_runs=[obs.run_names[i] for i in obs.run], series=series,
         identifiability=summary.get("identifiability", {}),
-        assumptions=tuple(model.assumptions))
+        assumptions=tuple(model.assumptions), approximation=approximation)
 
 
 def evaluate_from_text(study_path: str, mechanism_text: str, name: str, variant: str,

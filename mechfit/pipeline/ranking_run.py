@@ -231,9 +231,12 @@ def _candidate(o: CandidateOutcome, refits: dict[str, float] | None = None) -> C
             if run not in refits:
                 raise MechfitError(f"no exact refit of {o.key} without run {run} was made")
             return refits[run]
+    approx = o.approximation or {}
     return Candidate(o.name, o.variant, o.idata, "y", o.point_runs,
                      log_likelihood_max=o.log_likelihood_max, n_parameters=o.n_parameters,
-                     n_data=o.n_data, residuals=o.residuals(), refit=refit)
+                     n_data=o.n_data, residuals=o.residuals(), refit=refit,
+                     approximation_deviation=approx.get("deviation"),
+                     approximation_threshold=approx.get("tolerance"))
 
 
 def _refit_job(study_path: str, text: str, name: str, variant: str, run: str,

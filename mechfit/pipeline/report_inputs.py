@@ -196,6 +196,22 @@ def _rate_laws(mechanism, variant: str) -> list[RateLaw]:
     return out
 
 
+def _approximation_notes(c: dict, fit: dict) -> list[str]:
+    """The approximation check of a reduced variant as a sentence for the report."""
+    check = c.get("approximation")
+    if not check:
+        return []
+    where = fit.get("approximation", {})
+    verdict = "within" if check.get("valid") else "OUTSIDE"
+    text = (f"the reduced rate law deviates from the full mechanism by up to "
+            f"{100 * check['deviation']:.1f} % at the best fit")
+    if where.get("run"):
+        text += f" (run {where['run']}, {where['species']})"
+    return [text + f": {verdict} the tolerance of {100 * check['threshold']:.0f} %"
+            + ("" if check.get("valid") else "; the approximation does not hold where the "
+               "data were taken, so its ranking is not evidence for the mechanism")]
+
+
 def report_data_from_folder(folder: str | Path) -> ReportData:
     """Everything the report shows, read from a folder written by ``mechfit rank``."""
     from mechfit.infer.inference_data import read_inference_data
@@ -254,8 +270,7 @@ def report_data_from_folder(folder: str | Path) -> ReportData:
             parameters=_parameter_rows(fit), runs=_runs(fit, idata, temperatures),
             residual_diagnostics=_residual_rows(c), posterior=idata,
             identifiability_notes=notes,
-            approximation_notes=[] if not c.get("approximation") else
-            [json.dumps(c["approximation"])],
+            approximation_notes=_approximation_notes(c, fit),
             temperature_dependence=temp,
             energy_profile=_energy_profile(mech, fit, t_ref),
             rate_laws=_rate_laws(mech, c["variant"])))
