@@ -208,13 +208,28 @@ def starting_ball(likelihood: Likelihood, centre: np.ndarray, covariance: np.nda
         sd = np.sqrt(np.clip(np.diag(covariance), 0, None))
     else:
         sd = np.zeros(q)
-    sd = np.where((sd > 0) & np.isfinite(sd), sd, 1e-2 * np.maximum(1.0, np.abs(centre)))
+    # a width the centre cannot resolve (a singular Fisher information gives ~1e-18 along
+    # a direction the data do not determine) would start every walker at one value
+    scale = np.maximum(1.0, np.abs(centre))
+    sd = np.where((sd > 1e-8 * scale) & np.isfinite(sd), sd, 1e-2 * scale)
     low, high = likelihood.parameters.free_bounds()
+    span = high - low
+    # a ball wider than the prior's range would pile walkers onto a bound
+    sd = np.where(np.isfinite(span) & (width * sd > 0.05 * span), 0.05 * span / width, sd)
+    with np.errstate(invalid="ignore"):
+        inner_low = np.where(np.isfinite(low), low + 1e-12 * np.maximum(1, np.abs(low)), low)
+        inner_high = np.where(np.isfinite(high), high - 1e-12 * np.maximum(1, np.abs(high)),
+                              high)
     pos = np.empty((walkers, q))
     todo = np.arange(walkers)
     for _ in range(50):
         trial = centre + width * sd * rng.standard_normal((todo.size, q))
-        trial = np.clip(trial, low + 1e-12, high - 1e-12)
+        # reflect at the bounds rather than clip: an optimum on a bound (a rate constant
+        # the data cannot bound from below) must not put every walker at one value, or
+        # no move could ever leave it
+        trial = np.where(trial < low, 2 * low - trial, trial)
+        trial = np.where(trial > high, 2 * high - trial, trial)
+        trial = np.clip(trial, inner_low, inner_high)
         ok = np.isfinite(likelihood.log_posterior(trial))
         pos[todo[ok]] = trial[ok]
         todo = todo[~ok]

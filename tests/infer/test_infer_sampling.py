@@ -134,3 +134,26 @@ def test_next_check_extrapolates_rhat_but_grows_the_chain_at_most_by_half():
     n = _steps_for_rhat(1.012, 1.01, 3000)                      # R^2 - 1 ~ 1/n
     assert 3000 < n < 4500 and n == pytest.approx(1.1 * 3000 * (1.012**2 - 1) / 0.0201, abs=1)
     assert _steps_for_rhat(1.3, 1.01, 1000) == 1500
+
+
+def test_the_start_ball_never_collapses_a_coordinate():
+    # z is untouched by the data: a singular information matrix gives it a variance of
+    # ~1e-36, and its optimum may sit on its prior's lower bound. Neither may put every
+    # walker at one value of z, which no move could ever leave (emcee refuses such an
+    # ensemble as linearly dependent walkers)
+    from mechfit.infer import Uniform
+    from mechfit.infer.sampling import starting_ball
+
+    model = ModelFunction(("m", "z"), lambda x: np.repeat(x[:, :1], Y.size, axis=1))
+    pars = Parameters((Parameter("m", 3.0, Normal(M0, S0)),
+                       Parameter("z", 1.0, Uniform(0, 10))))
+    lik = Likelihood(model, Observations.single(np.arange(Y.size), Y), pars,
+                     ErrorModel(sigma=S))
+    rng = np.random.default_rng(0)
+    for centre, variance in (([4.2, 5.0], 1e-36), ([4.2, 0.0], 1e6)):
+        pos = starting_ball(lik, np.array(centre), np.diag([0.03, variance]), 8, 1e-3, rng)
+        assert np.unique(pos[:, 1]).size == 8, (centre, variance, pos[:, 1])
+        assert np.all((pos[:, 1] >= 0) & (pos[:, 1] <= 10))
+    post = sample_posterior(lik, np.array([4.2, 5.0]), np.diag([0.03, 1e-36]),
+                            SamplingSettings(walkers=8, min_steps=300, max_steps=300))
+    assert np.ptp(post.natural()[..., 1]) > 1.0
