@@ -149,12 +149,11 @@ def approximation_deviation(study, fit: StudyFit, model) -> dict:
         return {}
     values = fit.maximum.values
     laws = fit.problem.laws
-    constants = [p for p in model.mechanism.parameters]
     worst = {"deviation": 0.0, "run": "", "species": "",
              "tolerance": APPROXIMATION_TOLERANCE}
     for run in study.runs:
         k = dict(model.mechanism.fixed)
-        for c in constants:
+        for c in model.mechanism.parameters:
             if c in laws:
                 law = laws[c]
                 k[c] = float(np.asarray(law.rate_constant(
