@@ -359,14 +359,19 @@ def stuck_walkers(log_prob: np.ndarray, q: int) -> np.ndarray:
 
 
 def _restart_walkers(state, stuck: np.ndarray, rng: np.random.Generator):
-    """Move ``stuck`` walkers onto copies of randomly chosen good walkers (tiny jitter)."""
+    """Move ``stuck`` walkers onto copies of randomly chosen good walkers.
+
+    The jitter, 1e-3 of the good walkers' spread, keeps the ensemble of full rank even when
+    few good walkers are left (emcee refuses linearly dependent walkers); the chain is
+    restarted anyway, so the copies are burn-in.
+    """
     import emcee
 
     coords = np.array(state.coords, dtype=float)
     good = np.setdiff1d(np.arange(coords.shape[0]), stuck)
     spread = np.std(coords[good], axis=0)
     pick = rng.choice(good, size=stuck.size)
-    coords[stuck] = coords[pick] + 1e-6 * spread * rng.standard_normal((stuck.size,
+    coords[stuck] = coords[pick] + 1e-3 * spread * rng.standard_normal((stuck.size,
                                                                         coords.shape[1]))
     return emcee.State(coords, random_state=state.random_state)
 
