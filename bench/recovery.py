@@ -10,7 +10,8 @@ studies; coverage between 85% and 95%.
 The true parameters of the candidates other than the demo's truth are set below
 (invented values that give curves of the demo's time scale).
 
-    python bench/recovery.py [--seeds 10] [--truths saturation,direct] [--max-steps 3000]
+    python bench/recovery.py [--seeds 10] [--first-seed 1] [--truths saturation,direct]
+                             [--max-steps 3000]
 """
 
 from __future__ import annotations
@@ -71,6 +72,8 @@ def coverage(outcome, truth: str, level: float = 0.90) -> tuple[int, int]:
 def main(argv=None) -> int:
     parser = argparse.ArgumentParser(description=__doc__.splitlines()[0])
     parser.add_argument("--seeds", type=int, default=10)
+    parser.add_argument("--first-seed", type=int, default=1,
+                        help="first seed (to add studies to an earlier run)")
     parser.add_argument("--truths", default=",".join(TRUTHS))
     parser.add_argument("--max-steps", type=int, default=3000)
     parser.add_argument("--starts", type=int, default=8)
@@ -85,7 +88,7 @@ def main(argv=None) -> int:
     with tempfile.TemporaryDirectory() as tmp:
         for truth in args.truths.split(","):
             first = leading = inside = total = 0
-            for seed in range(1, args.seeds + 1):
+            for seed in range(args.first_seed, args.first_seed + args.seeds):
                 study = load_study(study_folder(truth, seed, Path(tmp)) / "study.toml")
                 result = rank_study(study, candidates, settings)
                 best = result.ranking.candidates[0]
