@@ -92,10 +92,12 @@ def lumped_parameters(law, values: dict[str, np.ndarray]) -> list[LumpedSummary]
     >>> [(x.name, round(x.median, 2), x.determined) for x in lumped_parameters(law, draws)]
     [('a1', 0.6, True), ('b1', 0.2, True)]
     """
-    import arviz as az
     import sympy
 
     from mechfit.derive.printing import plain_text
+    from mechfit.infer.diagnostics import arviz
+
+    az = arviz()
 
     out = []
     for p in law.parameters:
