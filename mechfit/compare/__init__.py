@@ -15,7 +15,13 @@ from mechfit.compare.approximation import ApproximationCheck, approximation_chec
 from mechfit.compare.criteria import InformationCriteria, information_criteria
 from mechfit.compare.elpd import PredictiveDensity, difference, psis_loo, waic
 from mechfit.compare.errors import ComparisonError
-from mechfit.compare.ranking import Candidate, CandidateResult, Ranking, rank_candidates
+from mechfit.compare.ranking import (
+    Candidate,
+    CandidateResult,
+    Ranking,
+    parsimonious_choice,
+    rank_candidates,
+)
 from mechfit.compare.residuals import (
     ResidualDiagnostics,
     RunsTest,
@@ -36,7 +42,8 @@ from mechfit.compare.weights import PredictiveWeights, akaike_weights, predictiv
 __all__ = [
     "ApproximationCheck", "approximation_check", "InformationCriteria", "information_criteria",
     "PredictiveDensity", "difference", "psis_loo", "waic", "ComparisonError", "Candidate",
-    "CandidateResult", "Ranking", "rank_candidates", "ResidualDiagnostics", "RunsTest",
+    "CandidateResult", "Ranking", "rank_candidates", "parsimonious_choice",
+    "ResidualDiagnostics", "RunsTest",
     "SeriesDiagnostics", "durbin_watson", "lag1_autocorrelation", "residual_diagnostics",
     "runs_test", "leave_one_run_out", "log_predictive_density", "run_log_likelihood", "BEST",
     "CLEARLY_WORSE", "FAILS",

@@ -9,7 +9,9 @@ cross-check. A candidate gets one of four verdicts:
     :mod:`mechfit.compare.residuals`), whatever its rank: the rate law misses a feature
     of the curves.
 ``best supported``
-    First by ``elpd_loo`` (and residuals not structured).
+    First by ``elpd_loo`` (and residuals not structured), after the one-standard-error
+    rule of :func:`mechfit.compare.ranking.parsimonious_choice`: a candidate with fewer
+    parameters within one standard error of the highest elpd_loo is ranked first.
 ``not distinguishable from the best``
     :math:`\Delta = \mathrm{elpd}_\text{best}-\mathrm{elpd} \le 4`, or
     :math:`\Delta \le 2\,\mathrm{SE}(\Delta)`. Differences below 4 are too small for the
