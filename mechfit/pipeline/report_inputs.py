@@ -245,26 +245,7 @@ def report_data_from_folder(folder: str | Path) -> ReportData:
                          "see fit.json") + "; treat its intervals and criteria with care")
         elif sampling.get("statement"):
             notes.append("posterior " + sampling["statement"])
-        ident = fit.get("identifiability", {})
-        for d in ident.get("sloppy_directions", []) or []:
-            notes.append(f"poorly determined direction: {d.get('combination', d)} (sd of its "
-                         f"log {d.get('sd_log', float('nan')):.3g})")
-        for name in ident.get("prior_dominated", []) or []:
-            notes.append(f"{name}: the posterior is no narrower than the prior")
-        for combo in ident.get("identifiable_combinations", []) or []:
-            notes.append(f"identifiable combination: {combo}")
-        for x in ident.get("lumped_parameters", []) or []:
-            notes.append(f"lumped parameter of the rate law {x['name']} = {x['expression']}: "
-                         f"median {x['median']:.4g} (95 % HDI {x['hdi_low']:.4g} to "
-                         f"{x['hdi_high']:.4g}), "
-                         + ("determined" if x["determined"] else "NOT determined"))
-        for h in fit.get("half_conversion", []) or []:
-            notes.append(
-                f"half-life of {h['species']} under the conditions of run {h['run']}: "
-                + (f"{h['median']:.4g} s (95 % HDI {h['hdi_low']:.4g} to {h['hdi_high']:.4g})"
-                   if h.get("median") is not None else
-                   f"not reached by {100 * h['reached']:.0f} % of the draws within "
-                   f"{h['horizon']:.4g} s"))
+        notes += identifiability_notes(fit)
         candidates.append(CandidateReport(
             name=c["name"], variant=c["variant"], ranking=_ranking_row(c),
             parameters=_parameter_rows(fit), runs=_runs(fit, idata, temperatures),
@@ -288,3 +269,48 @@ def report_data_from_folder(folder: str | Path) -> ReportData:
         invented=bool(study.get("invented")), invented_note=study.get("note", ""),
         design_suggestions=design_suggestions(folder),
         generated=f"mechfit {ranking.get('version', '')}".strip())
+
+
+def _figure(x, spec: str = ".4g", missing: str = "not finite") -> str:
+    """``x`` formatted with ``spec``, or ``missing`` for None, NaN or an infinity (JSON
+    stores non-finite numbers as null)."""
+    try:
+        x = float(x)
+    except (TypeError, ValueError):
+        return missing
+    return format(x, spec) if np.isfinite(x) else missing
+
+
+def identifiability_notes(fit: dict) -> list[str]:
+    """The report's notes on what the data determine, from a candidate's ``fit.json``.
+
+    Examples
+    --------
+    >>> identifiability_notes({"identifiability": {"sloppy_directions": [
+    ...     {"combination": "kd^1", "sd_log": None}]}})
+    ['poorly determined direction: kd^1 (sd of its log unbounded: the data do not determine it)']
+    """
+    notes = []
+    ident = fit.get("identifiability", {}) or {}
+    for d in ident.get("sloppy_directions", []) or []:
+        sd = _figure(d.get("sd_log"), ".3g", "")
+        notes.append(f"poorly determined direction: {d.get('combination', d)} (sd of its log "
+                     + (sd if sd else "unbounded: the data do not determine it") + ")")
+    for name in ident.get("prior_dominated", []) or []:
+        notes.append(f"{name}: the posterior is no narrower than the prior")
+    for combo in ident.get("identifiable_combinations", []) or []:
+        notes.append(f"identifiable combination: {combo}")
+    for x in ident.get("lumped_parameters", []) or []:
+        notes.append(f"lumped parameter of the rate law {x['name']} = {x['expression']}: "
+                     f"median {_figure(x.get('median'))} (95 % HDI "
+                     f"{_figure(x.get('hdi_low'))} to {_figure(x.get('hdi_high'))}), "
+                     + ("determined" if x.get("determined") else "NOT determined"))
+    for h in fit.get("half_conversion", []) or []:
+        notes.append(
+            f"half-life of {h['species']} under the conditions of run {h['run']}: "
+            + (f"{_figure(h['median'])} s (95 % HDI {_figure(h.get('hdi_low'))} to "
+               f"{_figure(h.get('hdi_high'))})"
+               if h.get("median") is not None else
+               f"not reached by {100 * h['reached']:.0f} % of the draws within "
+               f"{_figure(h.get('horizon'))} s"))
+    return notes
