@@ -36,8 +36,8 @@ class FitSettings:
     starts: int = 16
     local: int = 3
     walkers: int | None = None
-    min_steps: int = 1000
-    chunk: int = 500
+    min_steps: int = 300
+    chunk: int = 200
     max_steps: int = 10000
     seed: int = 0
 
