@@ -389,60 +389,65 @@ def _model_function(study, kinetic_model, sim, laws, parameters, functions, pick
 
     scaled_runs = any(sc is not None for sc in scales)
 
+    def chain_map(r, labels, values, rate, m):
+        """d(sensitivity direction)/d(parameter column) in run ``r``: (m, directions,
+        columns). Directions are ``ln k`` or ``k`` of the simulator's parameters and
+        ``[X]0``; columns are the natural values of the fitted parameters, through the
+        temperature laws and the run's initial-concentration scale."""
+        out = np.zeros((m, len(labels), len(names)))
+        T = temperatures[r]
+        for j, label in enumerate(labels):
+            if label.startswith("["):
+                sp = label[1:-2]
+                if scales[r] is not None and sp in scales[r].species:
+                    out[:, j, column[scales[r].parameter]] += nominal[r, species.index(sp)]
+                continue
+            log = label.startswith("ln ")
+            p = label[3:] if log else label
+            if p in laws:
+                law = laws[p]
+                for q in law.parameter_names:
+                    if q not in column:
+                        continue
+                    if law.kind == "arrhenius" and q != p:
+                        dlnk = -(1.0 / T - 1.0 / law.reference_temperature) / GAS_CONSTANT
+                    elif law.kind == "eyring":
+                        dlnk = (-1.0 / (GAS_CONSTANT * T) if q.startswith("dH_")
+                                else 1.0 / GAS_CONSTANT)
+                    else:
+                        dlnk = 1.0 / values[q]
+                    out[:, j, column[q]] += dlnk if log else dlnk * rate[r, :, j]
+            elif p in column:
+                out[:, j, column[p]] += 1.0 / rate[r, :, j] if log else 1.0
+        return out
+
     def sensitivities(x: np.ndarray) -> tuple[np.ndarray, np.ndarray]:
         m = x.shape[0]
         values, initial, conc, ok, result, rate = solve(x, "all" if scaled_runs else
                                                           "parameters")
         labels = result.sensitivity_names
         sens = result.sensitivities.reshape(n_runs, m, width, len(species), len(labels))
+        maps = [chain_map(r, labels, values, rate, m) for r in range(n_runs)]
         out = np.empty((m, n_data))
         jac = np.zeros((m, n_data, len(names)))
         for (r, name, index), where in zip(picks, slices, strict=True):
             function, args, gradient = functions[name]
             n = where.stop - where.start
             vals = arguments(args, values, initial, conc[r][:, index, :], r)
-            out[:, where] = np.broadcast_to(function(*vals), (m, n))
+            out[:, where] = function(*vals)
             dfdc = np.zeros((m, n, len(species)))
+            block = jac[:, where]
             for (kind, a), g in zip(args, gradient, strict=True):
-                d = np.broadcast_to(g(*vals), (m, n))
                 if kind == "concentration":
-                    dfdc[:, :, a] += d
+                    dfdc[:, :, a] += g(*vals)
                 elif kind == "parameter" and a in column:
-                    jac[:, where, column[a]] += d
+                    block[:, :, column[a]] += g(*vals)
                 elif kind == "initial" and scales[r] is not None and \
                         species[a] in scales[r].species:
-                    jac[:, where, column[scales[r].parameter]] += d * nominal[r, a]
-            # d f / d direction, (m, n, directions)
+                    block[:, :, column[scales[r].parameter]] += g(*vals) * nominal[r, a]
+            # d f / d direction, (m, n, directions), then to the parameter columns
             dfdd = np.einsum("mns,mnsd->mnd", dfdc, sens[r][:, index])
-            for j, label in enumerate(labels):
-                if label.startswith("["):
-                    sp = label[1:-2]
-                    if scales[r] is not None and sp in scales[r].species:
-                        col = column[scales[r].parameter]
-                        jac[:, where, col] += dfdd[:, :, j] * nominal[r, species.index(sp)]
-                    continue
-                p = label[3:] if label.startswith("ln ") else label
-                log = label.startswith("ln ")
-                if p in laws:
-                    law = laws[p]
-                    T = temperatures[r]
-                    for q in law.parameter_names:
-                        if q not in column:
-                            continue
-                        if law.kind == "arrhenius" and q != p:
-                            dlnk = -(1.0 / T - 1.0 / law.reference_temperature) / GAS_CONSTANT
-                        elif law.kind == "eyring":
-                            dlnk = (-1.0 / (GAS_CONSTANT * T) if q.startswith("dH_")
-                                    else 1.0 / GAS_CONSTANT)
-                        else:
-                            dlnk = 1.0 / values[q]
-                        factor = dlnk if log else dlnk * rate[r, :, j]
-                        jac[:, where, column[q]] += dfdd[:, :, j] * np.reshape(
-                            np.broadcast_to(factor, (m,)), (m, 1))
-                elif p in column:
-                    factor = rate[r, :, j] if log else 1.0
-                    jac[:, where, column[p]] += dfdd[:, :, j] * np.reshape(
-                        np.broadcast_to(1.0 / factor if log else factor, (m,)), (m, 1))
+            block += np.einsum("mnd,mdc->mnc", dfdd, maps[r])
         out[~ok] = np.nan
         jac[~ok] = np.nan
         return out, jac
