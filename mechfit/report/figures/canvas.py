@@ -40,12 +40,17 @@ STYLE = {
 }
 
 
-def new_figure(width: float, height: float) -> Figure:
-    """A blank figure of ``width`` x ``height`` inches with the report's style."""
+def new_figure(width: float, height: float, *, layout: str | None = "constrained") -> Figure:
+    """A blank figure of ``width`` x ``height`` inches with the report's style.
+
+    ``layout=None`` leaves the placement of the axes to the caller (the grids of many
+    small panels place them with fixed margins: matplotlib's constrained layout costs
+    about a second for twenty panels).
+    """
     import matplotlib
 
     with matplotlib.rc_context(STYLE):
-        return Figure(figsize=(width, height), layout="constrained")
+        return Figure(figsize=(width, height), layout=layout)
 
 
 def styled(function):

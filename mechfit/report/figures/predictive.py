@@ -22,6 +22,7 @@ from collections.abc import Sequence
 
 import numpy as np
 from matplotlib.figure import Figure
+from matplotlib.ticker import MaxNLocator
 
 from mechfit.report.data import RunFit
 from mechfit.report.figures.canvas import (
@@ -56,11 +57,30 @@ def _panels(runs: Sequence[RunFit]):
     return [(run, series) for run in runs for series in run.series]
 
 
-def _grid(n: int, panel_width: float, panel_height: float):
+#: margins of the panel grids, in inches: left (tick labels and axis label), right, top
+#: (title), bottom (tick labels and axis label), and the space a legend row takes
+MARGINS = {"left": 0.6, "right": 0.12, "top": 0.3, "bottom": 0.45, "legend": 0.3}
+
+
+def _grid(n: int, panel_width: float, panel_height: float, *, legend: bool = False):
+    """Rows of ``COLUMNS`` panels placed with fixed margins (no layout engine), each
+    axis with at most about four ticks."""
     columns = min(COLUMNS, max(n, 1))
     rows = int(np.ceil(n / columns))
-    fig = new_figure(panel_width * columns, panel_height * rows)
+    extra = MARGINS["legend"] if legend else 0.0
+    width, height = panel_width * columns, panel_height * rows + extra
+    fig = new_figure(width, height, layout=None)
+    gap_w = MARGINS["left"] + MARGINS["right"]
+    gap_h = MARGINS["top"] + MARGINS["bottom"]
+    fig.subplots_adjust(left=MARGINS["left"] / width, right=1.0 - MARGINS["right"] / width,
+                        bottom=(MARGINS["bottom"] + extra) / height,
+                        top=1.0 - MARGINS["top"] / height,
+                        wspace=gap_w / (panel_width - gap_w),
+                        hspace=gap_h / (panel_height - gap_h))
     axes = [fig.add_subplot(rows, columns, i + 1) for i in range(n)]
+    for ax in axes:
+        ax.xaxis.set_major_locator(MaxNLocator(4))
+        ax.yaxis.set_major_locator(MaxNLocator(4))
     return fig, axes
 
 
@@ -84,7 +104,7 @@ def plot_predictive_bands(runs: Sequence[RunFit], *, time_unit: str = "s",
         Shown on the time axis.
     """
     panels = _panels(runs)
-    fig, axes = _grid(len(panels), panel_width, panel_height)
+    fig, axes = _grid(len(panels), panel_width, panel_height, legend=True)
     for ax, (run, series) in zip(axes, panels, strict=True):
         if series.predictive_draws is not None:
             q = predictive_quantiles(series.predictive_draws)
@@ -105,8 +125,7 @@ def plot_predictive_bands(runs: Sequence[RunFit], *, time_unit: str = "s",
         ax.grid(color=GRID_COLOUR, linewidth=0.5)
     if axes:
         handles, labels = axes[0].get_legend_handles_labels()
-        fig.legend(handles, labels, loc="outside lower center", ncols=len(labels),
-                   frameon=False)
+        fig.legend(handles, labels, loc="lower center", ncols=len(labels), frameon=False)
     return fig
 
 
