@@ -11,7 +11,6 @@ from __future__ import annotations
 
 import json
 import math
-from collections.abc import Mapping
 from dataclasses import dataclass, field
 from pathlib import Path
 
@@ -40,6 +39,9 @@ from mechfit.infer.summaries import (
 )
 
 RESULT_FILES = ("posterior.nc", "fit.json")
+#: relative tolerance of the least-squares searches of a study fit (the optimum's
+#: log-likelihood is then good to about 1e-4, far below what the criteria resolve)
+FIT_TOLERANCE = 1e-8
 
 CAUTIONS = (
     "Rate constants and activation parameters hold within the temperatures and "
@@ -190,8 +192,7 @@ def fit_study(
     settings: SamplingSettings | None = None,
     progress=False,
     seed: int = 0,
-    tolerance: float = 1e-8,
-    start_from: Mapping[str, float] | None = None,
+    tolerance: float = FIT_TOLERANCE,
 ) -> StudyFit:
     """Fit a kinetic model variant to all runs of a study.
 
@@ -213,16 +214,10 @@ def fit_study(
     tolerance
         Relative tolerance of the least-squares searches (1e-8: the optimum's
         log-likelihood is then good to about 1e-4, far below what the criteria resolve).
-    start_from
-        Parameter values (natural, by name) of a nearby optimum, such as the fit to the
-        whole study when one run is left out: one more local search starts there.
     """
     problem = study_problem(study, model)
     lik = Likelihood(problem.model, problem.observations, problem.parameters, problem.errors)
-    extra = () if start_from is None else (lik.parameters.free_vector(
-        {n: float(v) for n, v in start_from.items() if n in lik.parameters}),)
-    fit = maximum_likelihood(lik, starts=starts, local=local, seed=seed, tolerance=tolerance,
-                             extra_starts=extra)
+    fit = maximum_likelihood(lik, starts=starts, local=local, seed=seed, tolerance=tolerance)
     settings = settings or SamplingSettings(seed=seed)
     post = sample_posterior(lik, fit.u, fit.covariance_free, settings, progress=progress)
     idata = inference_data(post, fit=fit, seed=seed)

@@ -400,6 +400,7 @@ def maximum_likelihood(
     extra_starts: Sequence[np.ndarray] = (),
     max_evaluations: int = 2000,
     tolerance: float = 1e-14,
+    current: bool = True,
 ) -> MaximumLikelihood:
     """Multi-start maximum likelihood (see the module docs).
 
@@ -422,6 +423,9 @@ def maximum_likelihood(
         Cap on residual evaluations of each least-squares call.
     tolerance
         ``ftol``, ``xtol`` and ``gtol`` of :func:`scipy.optimize.least_squares` (relative).
+    current
+        Also search from the collection's current values (``False`` when a nearby
+        optimum is given in ``extra_starts``, e.g. a refit without one run).
 
     Raises
     ------
@@ -447,7 +451,8 @@ def maximum_likelihood(
     p = likelihood.parameters
     q = len(p.free_names)
     design = p.start_design(starts, method=method, seed=seed) if q else np.empty((0, 0))
-    candidates = [p.free_vector(), *[np.asarray(s, float) for s in extra_starts]]
+    candidates = [p.free_vector()] if current or not extra_starts else []
+    candidates += [np.asarray(s, float) for s in extra_starts]
     evaluations = 0
     if q and starts:
         ll = likelihood.log_likelihood(design)

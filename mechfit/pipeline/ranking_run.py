@@ -24,11 +24,12 @@ from mechfit.compare.elpd import PARETO_K_UNRELIABLE
 from mechfit.compare.run_loo import log_predictive_density
 from mechfit.derive import derive_variant, derive_variants, split_variant_list
 from mechfit.errors import MechfitError
-from mechfit.infer.fit import fit_study
+from mechfit.infer.fit import FIT_TOLERANCE
 from mechfit.infer.inference_data import write_inference_data
 from mechfit.infer.likelihood import Likelihood
+from mechfit.infer.optimize import maximum_likelihood
+from mechfit.infer.sampling import sample_posterior
 from mechfit.infer.study_model import study_problem
-from mechfit.infer.summaries import posterior_values
 from mechfit.mechanism import Mechanism
 from mechfit.pipeline.evaluate import (
     CandidateOutcome,
@@ -193,28 +194,36 @@ def _json_default(value):
 
 def _held_out_density(study, outcome: CandidateOutcome, run: str,
                       settings: FitSettings) -> float:
-    """log p(y_run | other runs): refit without the run, score the run at the new draws."""
+    """log p(y_run | other runs): refit without the run, score the run at the new draws.
+
+    Only what the score needs is computed: the maximum-likelihood point (searched from
+    the whole-study optimum, which is close to the held-out one, when it is known) and
+    the posterior draws; no InferenceData, identifiability or summaries.
+    """
     reduced = dataclasses.replace(study, runs=tuple(r for r in study.runs if r.name != run))
-    mech = outcome.mechanism()
-    model = derive_variant(mech, outcome.variant)
-    # the whole-study optimum is close to the held-out one: a local search from there,
-    # and a smaller start design, find it at a fraction of the first fit's cost
+    model = derive_variant(outcome.mechanism(), outcome.variant)
     optimum = {n: p["mle"] for n, p in outcome.summary.get("maximum_likelihood", {})
                .get("parameters", {}).items() if p.get("mle") is not None}
-    fit = fit_study(reduced, model, starts=settings.starts if not optimum else 0,
-                    local=settings.local if not optimum else 0,
-                    settings=settings.sampling(), seed=settings.seed,
-                    start_from=optimum or None)
+    problem = study_problem(reduced, model)
+    held = Likelihood(problem.model, problem.observations, problem.parameters, problem.errors)
+    if optimum:
+        start = held.parameters.free_vector({n: float(v) for n, v in optimum.items()
+                                             if n in held.parameters})
+        fit = maximum_likelihood(held, starts=0, current=False, extra_starts=(start,),
+                                 seed=settings.seed, tolerance=FIT_TOLERANCE)
+    else:
+        fit = maximum_likelihood(held, starts=settings.starts, local=settings.local,
+                                 seed=settings.seed, tolerance=FIT_TOLERANCE)
+    post = sample_posterior(held, fit.u, fit.covariance_free, settings.sampling())
+    draws = post.natural().reshape(-1, len(held.parameters.names))
+    take = np.linspace(0, len(draws) - 1, min(len(draws), 400)).astype(int)
     problem = study_problem(study, model)
     lik = Likelihood(problem.model, problem.observations, problem.parameters, problem.errors)
-    values = posterior_values(fit.idata)
-    flat = {n: v.reshape(-1) for n, v in values.items()}
-    count = next(iter(flat.values())).size
-    take = np.linspace(0, count - 1, min(count, 400)).astype(int)
     # free vectors of the whole-study likelihood, by name (a parameter of the held-out
     # run alone, such as its time offset, keeps its starting value)
-    u = np.array([lik.parameters.free_vector({n: float(v[i]) for n, v in flat.items()})
-                  for i in take])
+    u = np.array([lik.parameters.free_vector(
+        {n: float(v) for n, v in zip(held.parameters.names, draws[i], strict=True)})
+        for i in take])
     pointwise = lik.pointwise(u)
     r = lik.observations.run_names.index(run)
     sums = pointwise[:, lik.observations.run == r].sum(axis=1)
