@@ -14,11 +14,12 @@ Differential Evolution", Stat. Comput. 16 (2006) 239, with gamma = 2.38 / sqrt(2
 snooker updates (20 %, ter Braak and Vrugt, "Differential evolution Markov chain with
 snooker updater and fewer chains", Stat. Comput. 18 (2008) 435), both as emcee provides
 them; then a Student-t fitted to the burn-in serves as an independence
-Metropolis-Hastings proposal (:mod:`mechfit.infer.independence`), tried, fitted again
-and frozen, and mixed with the same differential-evolution moves for the chain that is
-kept. On the demo's saturation scheme (9 free parameters) the autocorrelation time falls
-from about 40 steps (``moves="de"``, differential evolution throughout) to 6-8, and 90
-for the stretch move (``moves="stretch"``). All work with 2 q + 2 walkers.
+Metropolis-Hastings proposal (:mod:`mechfit.infer.independence`), tried and fitted again
+until it is good enough or stops improving, then frozen and mixed with the same
+differential-evolution moves for the chain that is kept. On the demo's saturation scheme
+(9 free parameters) the autocorrelation time falls from about 40 steps (``moves="de"``,
+differential evolution throughout; 90 for the stretch move, ``moves="stretch"``) to 3.
+All work with 2 q + 2 walkers (emcee's ensemble moves need at least 2 q).
 
 The sampler runs in chunks; after each chunk the chain is judged by
 :func:`mechfit.infer.diagnostics.judge` (run length >= 50 tau, R-hat <= 1.01, bulk and
@@ -118,10 +119,12 @@ class SamplingSettings:
         ``proposal`` is the :class:`~mechfit.infer.independence.StudentTProposal`
         fitted during the burn-in of ``"independence"`` (before it, and without one,
         differential evolution alone). ``trial`` is the acceptance of the independence
-        proposals seen on trial during the burn-in: the independence move's share of the
-        steps follows it (between 0.2 and 0.8; 0.2 on trial), so a proposal that fits the
-        posterior badly leaves the work to differential evolution, and one accepted less
-        than ``TRIAL_USELESS`` of the time is not used at all.
+        proposals seen on trial during the burn-in. The independence move takes 0.2 of
+        the steps on trial, then 0.8 when it was accepted at least 0.2 of the time on trial
+        (an accepted independence proposal is a nearly independent draw, worth tens of
+        differential-evolution steps), else 0.5; one accepted less than
+        ``TRIAL_USELESS`` of the time is not used at all. The rest is differential
+        evolution, which carries the chain where the proposal fits badly.
         """
         import emcee
 
@@ -130,7 +133,7 @@ class SamplingSettings:
         if proposal is not None and not trial < TRIAL_USELESS:
             from mechfit.infer.independence import IndependenceMove
 
-            share = 0.2 if not np.isfinite(trial) else float(np.clip(trial, 0.2, 0.8))
+            share = 0.2 if not np.isfinite(trial) else (0.8 if trial >= 0.2 else 0.5)
             rest = 1.0 - share
             return [(IndependenceMove(proposal), share),
                     (emcee.moves.DEMove(), 0.8 * rest), (emcee.moves.DESnookerMove(), 0.2 * rest)]
