@@ -24,11 +24,13 @@ True
 
 from __future__ import annotations
 
+import functools
 from collections.abc import Sequence
 
 import sympy
 
-from mechfit.derive import derive_rate_law, derive_variant, mass_action_model
+from mechfit.derive import derive_rate_law, mass_action_model, reduced_model
+from mechfit.derive.steady_state import eliminable_species
 from mechfit.errors import MechfitError
 from mechfit.mechanism import Mechanism, symbols
 
@@ -49,8 +51,20 @@ def _monomials(expr: sympy.Expr, concentrations: dict[sympy.Symbol, str]) -> fro
         for exps in poly.monoms())
 
 
+#: seconds given to a nonlinear steady-state solve when judging equivalence (four times
+#: this) and to tidying its root; a scheme that needs longer is compared by its full ODEs
+#: (a mechfit convention: a solve that takes the derivation's usual 8 s would cost more
+#: than fitting the scheme it might spare, and schemes with a second-order step between
+#: intermediates, such as a catalyst dimer, rarely have a closed form)
+EQUIVALENCE_BUDGET = 0.25
+
+
+@functools.lru_cache(maxsize=4096)
 def rate_law_structure(mechanism: Mechanism) -> tuple:
     """A hashable description of the reduced rate law's structure (see module notes).
+
+    Results are remembered per mechanism (mechanisms are immutable), so enumerating a
+    family again does not derive its members again.
 
     Returns
     -------
@@ -63,7 +77,8 @@ def rate_law_structure(mechanism: Mechanism) -> tuple:
     concentrations = {symbols.concentration(s): s for s in mechanism.species}
     fixed = tuple(sorted(mechanism.fixed.items()))
     try:
-        law = derive_rate_law(derive_variant(mechanism, "qssa:all"))
+        law = derive_rate_law(reduced_model(mechanism, list(eliminable_species(mechanism)),
+                                            name="qssa:all", seconds=EQUIVALENCE_BUDGET))
         # a zero rate (a degenerate steady state, as in autocatalysis) says nothing
         if law.closed_form and law.numerator != 0:
             return ("qssa", fixed, law.species, _monomials(law.numerator, concentrations),
