@@ -294,8 +294,12 @@ def rank_study_steps(study, mechanisms: Sequence[Mechanism],
         ctx = multiprocessing.get_context("spawn")
         with ProcessPoolExecutor(max_workers=min(settings.workers, total),
                                  mp_context=ctx) as pool:
+            # larger schemes first, so that the last job to finish is a small one (the
+            # longest-first rule of list scheduling; the results do not depend on it)
+            ordered = sorted(jobs, key=lambda job: -(len(job[0].species)
+                                                     + len(job[0].reactions())))
             futures = {pool.submit(evaluate_from_text, str(study.path), m.to_text(), m.name,
-                                   v, settings.fit): (m, v) for m, v in jobs}
+                                   v, settings.fit): (m, v) for m, v in ordered}
             for fut in as_completed(futures):
                 m, v = futures[fut]
                 try:
