@@ -163,7 +163,8 @@ class Posterior:
     likelihood
         The likelihood (and, through it, the parameters) sampled.
     draws
-        Kept draws of the free vector, (walkers, draws, q): burn-in removed, thinned.
+        Kept draws of the free vector, (walkers, draws, q): burn-in removed, thinned by
+        ``thin`` (at least tau_min / 2, more to keep at most :data:`MAX_KEPT_DRAWS`).
     log_posterior
         Log posterior of the kept draws, (walkers, draws).
     convergence
@@ -415,6 +416,9 @@ def sample_steps(
     if verdict is None:  # the budget ran out before a check of the chain since a restart
         verdict, burn, thin = judge(names, chain, rhat_max=settings.rhat_max,
                                     ess_min=settings.ess_min, tau_factor=settings.tau_factor)
+    # at most MAX_KEPT_DRAWS draws are kept: every later use (pointwise log-likelihoods
+    # for LOO, predictive bands, summaries) costs in proportion, and gains nothing more
+    thin = max(thin, math.ceil((chain.shape[0] - burn) * walkers / MAX_KEPT_DRAWS))
     draws = np.swapaxes(chain[burn::thin], 0, 1).copy()
     kept_lp = np.swapaxes(lp[burn::thin], 0, 1).copy()
     posterior = Posterior(likelihood, draws, kept_lp, verdict, burn, thin, steps,
@@ -426,6 +430,10 @@ def sample_steps(
 
 #: restarts of stuck walkers allowed in one run (each discards the chain so far)
 MAX_RESTARTS = 3
+#: draws kept after burn-in and thinning, at most: 4 chains x 1000 draws, the usual
+#: default of Hamiltonian samplers (common practice), is plenty for PSIS-LOO and
+#: intervals; the chain is thinned further to stay below it
+MAX_KEPT_DRAWS = 4000
 #: the burn-in stops refitting the independence proposal once it is accepted this often
 #: on trial, or once neither the acceptance nor the standard deviation of any parameter
 #: in the burn-in grew by this factor since the trial before (mechfit conventions)
