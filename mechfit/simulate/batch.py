@@ -18,13 +18,11 @@ from mechfit.errors import MechfitError
 from mechfit.mechanism.model import Mechanism
 from mechfit.simulate import integrator, linear
 from mechfit.simulate.bdf import solve_mass_action_bdf
+from mechfit.simulate.compiled import SimulationInputError
 from mechfit.simulate.initial_rate import initial_rates_batch
 from mechfit.simulate.kernel import KIND_MASS_ACTION, KIND_PROGRAM, build_tables, check_model
-from mechfit.simulate.mass_action import solve_mass_action_batch
 
-
-class SimulationInputError(MechfitError):
-    """Arrays given to :meth:`Simulator.solve` have the wrong shape or unusable times."""
+__all__ = ["Result", "SimulationInputError", "Simulator"]
 
 
 @dataclass
@@ -125,8 +123,8 @@ class Simulator:
     -----
     Plain mass-action models drive one compiled kernel with their stoichiometry
     and reactant-order tables; other models are translated into opcode programs
-    for one compiled evaluator. Neither costs a compile per model: the numba code
-    is compiled once per machine and cached on disk. The integrators are RODAS4
+    for one compiled evaluator. Neither costs a compile per model: the C code is
+    compiled once, when mechfit is installed. The integrators are RODAS4
     (Hairer & Wanner, Solving ODEs II, 1996, section IV.7) and the variable-order
     NDF/BDF of Shampine & Reichelt (SIAM J. Sci. Comput. 18, 1997); see
     ``docs/simulate.md``.
@@ -241,7 +239,10 @@ class Simulator:
         counts = _broadcast(counts[:, None], n_sys, "times")[:, 0].copy()
         initial = _broadcast(initial, n_sys, "initial")
         parameters = _broadcast(parameters, n_sys, "parameters")
-        rtol = self.rtol if rtol is None else float(rtol)
+        rtol = _numbers(self.rtol if rtol is None else rtol, "rtol")
+        if rtol.ndim != 0 or not (np.isfinite(rtol) and rtol > 0):
+            raise SimulationInputError(f"rtol must be one positive number; got {rtol!r:.80}")
+        rtol = float(rtol)
         atol_rows = self._absolute_tolerance(initial, rtol, self.atol if atol is None else atol)
         status, reasons = self._validate(initial, parameters)
         directions = self._directions(sensitivities)
@@ -271,11 +272,10 @@ class Simulator:
         n_sys = max(initial.shape[0], parameters.shape[0])
         initial = _broadcast(initial, n_sys, "initial")
         parameters = _broadcast(parameters, n_sys, "parameters")
-        t = self.tables
         out = np.zeros((n_sys, len(self.species)))
-        initial_rates_batch(t.kind, t.mass_action, t.program, self._state_index,
+        initial_rates_batch(self.tables, self._state_index,
                             np.ascontiguousarray(initial[:, self._state_index]),
-                            parameters, initial, t.stack_size, out)
+                            parameters, initial, out)
         return out
 
     # ---- internals ------------------------------------------------------------
@@ -286,7 +286,7 @@ class Simulator:
             scale = np.where(scale > 0, scale, 1.0)
             rows = np.repeat((1e-4 * rtol * scale)[:, None], len(self.state), axis=1)
         else:
-            a = np.asarray(atol, dtype=float)
+            a = _numbers(atol, "atol")
             if a.ndim == 0:
                 rows = np.full((n_sys, len(self.state)), float(a))
             elif a.shape == (len(self.species),):
@@ -390,18 +390,15 @@ class Simulator:
         reached = np.zeros(n_sys)
         y0 = np.ascontiguousarray(initial[:, self._state_index])
         label = "rosenbrock"
-        if tables.kind == KIND_MASS_ACTION and nq == 0:
-            solver = solve_mass_action_batch
-            if self.method in ("auto", "bdf"):
-                solver, label = solve_mass_action_bdf, "bdf"
-            solver(*tables.mass_action, times, counts, y0, parameters, np.full(n_sys, rtol),
-                   atol_rows, max_steps, conc, status, steps, reached)
+        if tables.kind == KIND_MASS_ACTION and nq == 0 and self.method in ("auto", "bdf"):
+            label = "bdf"
+            solve_mass_action_bdf(tables, times, counts, y0, parameters, np.full(n_sys, rtol),
+                                  atol_rows, max_steps, conc, status, steps, reached)
         else:
             integrator.solve_batch(
-                tables.kind, tables.mass_action, tables.program, self._state_index, times,
-                counts, y0, parameters, initial, np.full(n_sys, rtol), atol_rows, sens_init,
-                sens_atol, dirpos, max_steps, tables.stack_size, conc, sens, status, steps,
-                reached)
+                tables, self._state_index, times, counts, y0, parameters, initial,
+                np.full(n_sys, rtol), atol_rows, sens_init, sens_atol, dirpos, max_steps,
+                conc, sens, status, steps, reached)
         for s in np.flatnonzero(status):
             if not reasons[s]:
                 reasons[s] = f"{integrator.REASONS[int(status[s])]}; stopped at t = " \
@@ -411,8 +408,17 @@ class Simulator:
                       sens if nq else None, self.direction_names(directions))
 
 
+def _numbers(values, what: str, dtype=float) -> np.ndarray:
+    """``values`` as a numpy array of ``dtype``, or a clear error naming ``what``."""
+    try:
+        return np.asarray(values, dtype=dtype)
+    except (TypeError, ValueError, OverflowError):
+        kind = "integers" if dtype is np.int64 else "numbers"
+        raise SimulationInputError(f"{what} must be {kind}; got {values!r:.80}") from None
+
+
 def _rows(values, width: int, what: str) -> np.ndarray:
-    a = np.asarray(values, dtype=float)
+    a = _numbers(values, what)
     if a.ndim == 1:
         a = a[None, :]
     if a.ndim != 2 or a.shape[1] != width:
@@ -432,7 +438,7 @@ def _broadcast(a: np.ndarray, n_sys: int, what: str) -> np.ndarray:
 
 def _output_times(times, counts) -> tuple[np.ndarray, np.ndarray]:
     if isinstance(times, list | tuple) and times and np.ndim(times[0]) == 1:
-        rows = [np.asarray(t, dtype=float) for t in times]
+        rows = [_numbers(t, "times") for t in times]
         width = max(len(r) for r in rows)
         padded = np.zeros((len(rows), width))
         for i, r in enumerate(rows):
@@ -442,14 +448,14 @@ def _output_times(times, counts) -> tuple[np.ndarray, np.ndarray]:
         counts = np.array([len(r) for r in rows], dtype=np.int64)
         times = padded
     else:
-        times = np.asarray(times, dtype=float)
+        times = _numbers(times, "times")
         if times.ndim == 1:
             times = times[None, :]
         if times.ndim != 2:
             raise SimulationInputError("times must be 1-D, 2-D or a list of 1-D arrays")
         if counts is None:
             counts = np.full(times.shape[0], times.shape[1], dtype=np.int64)
-        counts = np.asarray(counts, dtype=np.int64).reshape(-1)
+        counts = _numbers(counts, "counts", np.int64).reshape(-1)
     if counts.shape[0] != times.shape[0] or np.any(counts < 0) or \
             np.any(counts > times.shape[1]):
         raise SimulationInputError("counts must give, per row of times, how many entries "

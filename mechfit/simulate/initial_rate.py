@@ -3,35 +3,58 @@
 For an integrated species the initial rate is the right-hand side at the initial
 state; for a species given by an algebraic expression ``X = g(y, p, [.]0)`` (a
 steady-state intermediate, a species in pre-equilibrium) it is the chain rule
-``d[X]/dt = sum_l (dg/dy_l) dy_l/dt`` (common practice).
+``d[X]/dt = sum_l (dg/dy_l) dy_l/dt`` (common practice). Computed by the compiled
+library (``native/initial_rate.c``).
 """
 
 from __future__ import annotations
 
-import numba
+import ctypes
+
 import numpy as np
 
-from mechfit.simulate.kernel import model_rhs
-from mechfit.simulate.program import evaluate
+from mechfit.simulate import compiled
+from mechfit.simulate.kernel import ModelTables
 
 
-@numba.njit(cache=True)
-def initial_rates_batch(kind, ma, pg, state_index, y0, params, x0, stack_size,
-                        out):  # pragma: no cover - compiled
-    """``out[s, column] = d[X]/dt`` at t = 0 for each system ``s``."""
-    n_sys, n = y0.shape
-    stack = np.zeros(stack_size)
-    rates = np.zeros(max(ma[0].shape[1], 1))
-    f = np.zeros(n)
-    ops, args, consts, alg_tab, dy_tab = pg[0], pg[1], pg[2], pg[8], pg[9]
-    for s in range(n_sys):
-        y = y0[s]
-        model_rhs(kind, ma, pg, y, params[s], x0[s], stack, rates, f)
-        for k in range(n):
-            out[s, state_index[k]] = f[k]
-        for a in range(alg_tab.shape[0]):
-            out[s, alg_tab[a, 0]] = 0.0
-        for e in range(dy_tab.shape[0]):
-            v = evaluate(ops, args, consts, dy_tab[e, 2], dy_tab[e, 3], y, params[s], x0[s],
-                         stack)
-            out[s, alg_tab[dy_tab[e, 0], 0]] += v * f[dy_tab[e, 1]]
+def initial_rates_batch(tables: ModelTables, state_index: np.ndarray, y0: np.ndarray,
+                        params: np.ndarray, x0: np.ndarray, out: np.ndarray) -> None:
+    """``out[s, column] = d[X]/dt`` at t = 0 for each system ``s``.
+
+    Parameters
+    ----------
+    tables
+        The model tables (:func:`mechfit.simulate.kernel.build_tables`).
+    state_index
+        Output column of each state species (int64).
+    y0, params, x0
+        Initial state, parameters and initial concentrations of all species, one row
+        per system (float64, C order).
+    out
+        ``(systems, species)``, written.
+
+    Examples
+    --------
+    >>> from mechfit import parse_mechanism
+    >>> from mechfit.derive import mass_action_model
+    >>> from mechfit.simulate.kernel import build_tables
+    >>> tables = build_tables(mass_action_model(parse_mechanism("A + B -> C @ k")))
+    >>> y0, out = np.array([[2.0, 3.0, 0.0]]), np.zeros((1, 3))
+    >>> initial_rates_batch(tables, np.arange(3), y0, np.array([[0.5]]), y0, out)
+    >>> out.tolist()
+    [[-3.0, -3.0, 3.0]]
+    """
+    f64 = np.float64
+    model = compiled.model_struct(tables)
+    pointers = [compiled.pointer(y0, "initial state", f64, (None, tables.n_state))]
+    n_sys = y0.shape[0]
+    pointers += [
+        compiled.pointer(params, "parameters", f64, (n_sys, tables.n_parameters)),
+        compiled.pointer(x0, "initial concentrations", f64, (n_sys, tables.n_species)),
+        compiled.pointer(state_index, "state_index", np.int64, (tables.n_state,))]
+    if np.any(state_index < 0) or np.any(state_index >= tables.n_species):
+        raise compiled.SimulationInputError(
+            f"state_index must hold output columns 0..{tables.n_species - 1}")
+    pointers.append(compiled.pointer(out, "out", f64, (n_sys, tables.n_species),
+                                     writeable=True))
+    compiled.run(compiled.library().mf_initial_rates, ctypes.byref(model), n_sys, *pointers)

@@ -1,7 +1,9 @@
-"""The compiled right-hand side, Jacobian and sensitivity terms of any kinetic model.
+"""The numeric tables that drive the compiled kernels for any kinetic model.
 
-Two evaluation paths share one set of numba functions, compiled once and cached
-on disk (``cache=True``), so a new mechanism never costs a new compile:
+The right-hand side, Jacobian and sensitivity terms are evaluated by C code compiled
+once, when mechfit is installed (``native/mass_action.c``, ``native/program.c``);
+a model is only tables for it, so a new mechanism never costs new machine code.
+Two kinds of tables:
 
 * **mass action** (``kind = 0``): the rates ``r_j = f_j k_j prod_i y_i^nu_ij`` come
   from integer reactant-order tables, and ``dy/dt = N r`` from the stoichiometric
@@ -23,14 +25,13 @@ from __future__ import annotations
 
 from dataclasses import dataclass
 
-import numba
 import numpy as np
 import sympy
 
 from mechfit.derive.model import KineticModel
 from mechfit.errors import MechanismError
 from mechfit.mechanism import symbols
-from mechfit.simulate.program import ProgramBuilder, evaluate
+from mechfit.simulate.program import ProgramBuilder
 
 KIND_MASS_ACTION = 0
 KIND_PROGRAM = 1
@@ -154,12 +155,18 @@ def build_tables(model: KineticModel, *, sensitivities: bool = False) -> ModelTa
     log_scale = parameter_log_scale(model)
     n_species = len(model.mechanism.species)
     if is_mass_action(model):
-        return ModelTables(KIND_MASS_ACTION, len(model.state), len(model.parameters),
-                           n_species, mass_action_tables(model), _empty_program(), 1,
-                           log_scale, True)
-    program, depth = program_tables(model, log_scale, sensitivities=sensitivities)
-    return ModelTables(KIND_PROGRAM, len(model.state), len(model.parameters), n_species,
-                       _empty_mass_action(), program, depth, log_scale, sensitivities)
+        tables = ModelTables(KIND_MASS_ACTION, len(model.state), len(model.parameters),
+                             n_species, mass_action_tables(model), _empty_program(), 1,
+                             log_scale, True)
+    else:
+        program, depth = program_tables(model, log_scale, sensitivities=sensitivities)
+        tables = ModelTables(KIND_PROGRAM, len(model.state), len(model.parameters),
+                             n_species, _empty_mass_action(), program, depth, log_scale,
+                             sensitivities)
+    # read-only: the compiled side keeps pointers into these arrays
+    for array in (*tables.mass_action, *tables.program, tables.log_scale):
+        array.flags.writeable = False
+    return tables
 
 
 def _symbol_lookup(model: KineticModel) -> dict[str, sympy.Symbol]:
@@ -264,196 +271,3 @@ def check_model(model: KineticModel) -> None:
     if unknown:
         raise MechanismError(f"model {model.name!r} integrates {', '.join(unknown)}, "
                              "which are not species of its mechanism")
-
-
-# ---- compiled evaluation -------------------------------------------------------
-
-@numba.njit(cache=True, inline="always")
-def _power(y, order):  # pragma: no cover - compiled
-    v = 1.0
-    for _ in range(order):
-        v *= y
-    return v
-
-
-@numba.njit(cache=True)
-def _power_derivative(y, order, times):  # pragma: no cover - compiled
-    """``d^times/dy^times y**order`` for a non-negative integer order."""
-    if times > order:
-        return 0.0
-    c = 1.0
-    for t in range(times):
-        c *= order - t
-    return c * _power(y, order - times)
-
-
-@numba.njit(cache=True)
-def mass_action_rates(ma, y, p, rates):  # pragma: no cover - compiled
-    stoich, ridx, rord, rcnt, rpar, rfac = ma
-    for r in range(rcnt.shape[0]):
-        v = rfac[r] * p[rpar[r]]
-        for a in range(rcnt[r]):
-            v *= _power(y[ridx[r, a]], rord[r, a])
-        rates[r] = v
-
-
-@numba.njit(cache=True)
-def model_rhs(kind, ma, pg, y, p, x0, stack, rates, out):  # pragma: no cover - compiled
-    """``out = dy/dt`` at state ``y``."""
-    n = out.shape[0]
-    if kind == 0:
-        stoich = ma[0]
-        mass_action_rates(ma, y, p, rates)
-        for i in range(n):
-            s = 0.0
-            for r in range(rates.shape[0]):
-                s += stoich[i, r] * rates[r]
-            out[i] = s
-    else:
-        ops, args, consts, rhs_tab = pg[0], pg[1], pg[2], pg[3]
-        for i in range(n):
-            out[i] = evaluate(ops, args, consts, rhs_tab[i, 0], rhs_tab[i, 1], y, p, x0,
-                              stack)
-
-
-@numba.njit(cache=True)
-def model_jacobian(kind, ma, pg, y, p, x0, stack, jac):  # pragma: no cover - compiled
-    """``jac[i, j] = d(dy_i/dt)/dy_j`` at state ``y``."""
-    n = jac.shape[0]
-    for i in range(n):
-        for j in range(n):
-            jac[i, j] = 0.0
-    if kind == 0:
-        stoich, ridx, rord, rcnt, rpar, rfac = ma
-        for r in range(rcnt.shape[0]):
-            base = rfac[r] * p[rpar[r]]
-            for a in range(rcnt[r]):
-                d = base * _power_derivative(y[ridx[r, a]], rord[r, a], 1)
-                for b in range(rcnt[r]):
-                    if b != a:
-                        d *= _power(y[ridx[r, b]], rord[r, b])
-                col = ridx[r, a]
-                for i in range(n):
-                    jac[i, col] += stoich[i, r] * d
-    else:
-        ops, args, consts, jac_tab = pg[0], pg[1], pg[2], pg[4]
-        for e in range(jac_tab.shape[0]):
-            jac[jac_tab[e, 0], jac_tab[e, 1]] = evaluate(
-                ops, args, consts, jac_tab[e, 2], jac_tab[e, 3], y, p, x0, stack)
-
-
-@numba.njit(cache=True)
-def model_forcing(kind, ma, pg, y, p, x0, stack, rates, dirpos, forcing):  # pragma: no cover
-    """``forcing[i, j] = d(dy_i/dt)/d theta_q`` (scaled) for each selected direction
-    ``q`` with ``dirpos[q] = j >= 0``."""
-    n, nq = forcing.shape
-    for i in range(n):
-        for j in range(nq):
-            forcing[i, j] = 0.0
-    if kind == 0:
-        stoich, rpar = ma[0], ma[4]
-        mass_action_rates(ma, y, p, rates)
-        for r in range(rates.shape[0]):
-            j = dirpos[rpar[r]]
-            if j >= 0:
-                for i in range(n):
-                    forcing[i, j] += stoich[i, r] * rates[r]
-    else:
-        ops, args, consts, fp_tab = pg[0], pg[1], pg[2], pg[5]
-        for e in range(fp_tab.shape[0]):
-            j = dirpos[fp_tab[e, 1]]
-            if j >= 0:
-                forcing[fp_tab[e, 0], j] = evaluate(ops, args, consts, fp_tab[e, 2],
-                                                    fp_tab[e, 3], y, p, x0, stack)
-
-
-@numba.njit(cache=True)
-def model_coupling(kind, ma, pg, y, p, x0, stack, sens, u, dirpos, out):  # pragma: no cover
-    """``out[:, j] = (d/dy (J sens_j + forcing_j)) u``: the off-diagonal blocks of the
-    Jacobian of the sensitivity system, applied to ``u``."""
-    n, nq = out.shape
-    for i in range(n):
-        for j in range(nq):
-            out[i, j] = 0.0
-    if kind == 0:
-        stoich, ridx, rord, rcnt, rpar, rfac = ma
-        for r in range(rcnt.shape[0]):
-            base = rfac[r] * p[rpar[r]]
-            jr = dirpos[rpar[r]]
-            for a in range(rcnt[r]):
-                sa = ridx[r, a]
-                # gradient component and second derivatives of rate r
-                grad = base * _power_derivative(y[sa], rord[r, a], 1)
-                for c in range(rcnt[r]):
-                    if c != a:
-                        grad *= _power(y[ridx[r, c]], rord[r, c])
-                for b in range(rcnt[r]):
-                    sb = ridx[r, b]
-                    if a == b:
-                        h = base * _power_derivative(y[sa], rord[r, a], 2)
-                    else:
-                        h = base * _power_derivative(y[sa], rord[r, a], 1) \
-                            * _power_derivative(y[sb], rord[r, b], 1)
-                    if h == 0.0:
-                        continue
-                    for c in range(rcnt[r]):
-                        if c != a and c != b:
-                            h *= _power(y[ridx[r, c]], rord[r, c])
-                    hu = h * u[sa]
-                    for j in range(nq):
-                        v = hu * sens[sb, j]
-                        for i in range(n):
-                            out[i, j] += stoich[i, r] * v
-                if jr >= 0:
-                    gu = grad * u[sa]
-                    for i in range(n):
-                        out[i, jr] += stoich[i, r] * gu
-    else:
-        ops, args, consts, t_tab, jq_tab = pg[0], pg[1], pg[2], pg[6], pg[7]
-        for e in range(t_tab.shape[0]):
-            v = evaluate(ops, args, consts, t_tab[e, 3], t_tab[e, 4], y, p, x0, stack)
-            i, l, m = t_tab[e, 0], t_tab[e, 1], t_tab[e, 2]
-            vu = v * u[l]
-            for j in range(nq):
-                out[i, j] += vu * sens[m, j]
-        for e in range(jq_tab.shape[0]):
-            j = dirpos[jq_tab[e, 2]]
-            if j >= 0:
-                v = evaluate(ops, args, consts, jq_tab[e, 3], jq_tab[e, 4], y, p, x0, stack)
-                out[jq_tab[e, 0], j] += v * u[jq_tab[e, 1]]
-
-
-@numba.njit(cache=True)
-def model_outputs(pg, state_index, y, p, x0, stack, out):  # pragma: no cover - compiled
-    """All mechanism species: state species copied (``state_index[k]`` is the output
-    column of state ``k``), algebraic species evaluated."""
-    for k in range(state_index.shape[0]):
-        out[state_index[k]] = y[k]
-    ops, args, consts, alg_tab = pg[0], pg[1], pg[2], pg[8]
-    for a in range(alg_tab.shape[0]):
-        out[alg_tab[a, 0]] = evaluate(ops, args, consts, alg_tab[a, 1], alg_tab[a, 2], y, p,
-                                      x0, stack)
-
-
-@numba.njit(cache=True)
-def model_output_sensitivities(pg, state_index, y, sens, p, x0, stack, dirpos,
-                               out):  # pragma: no cover - compiled
-    """Sensitivities of all mechanism species: ``out[column, j]``."""
-    nq = sens.shape[1]
-    for k in range(state_index.shape[0]):
-        for j in range(nq):
-            out[state_index[k], j] = sens[k, j]
-    ops, args, consts, alg_tab, dy_tab, dq_tab = pg[0], pg[1], pg[2], pg[8], pg[9], pg[10]
-    for a in range(alg_tab.shape[0]):
-        for j in range(nq):
-            out[alg_tab[a, 0], j] = 0.0
-    for e in range(dy_tab.shape[0]):
-        v = evaluate(ops, args, consts, dy_tab[e, 2], dy_tab[e, 3], y, p, x0, stack)
-        col, k = alg_tab[dy_tab[e, 0], 0], dy_tab[e, 1]
-        for j in range(nq):
-            out[col, j] += v * sens[k, j]
-    for e in range(dq_tab.shape[0]):
-        j = dirpos[dq_tab[e, 1]]
-        if j >= 0:
-            v = evaluate(ops, args, consts, dq_tab[e, 2], dq_tab[e, 3], y, p, x0, stack)
-            out[alg_tab[dq_tab[e, 0], 0], j] += v

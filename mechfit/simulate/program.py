@@ -2,12 +2,13 @@
 
 Rate laws that are not plain mass action (empirical laws, the rational right-hand
 sides of steady-state and pre-equilibrium models) must run without Python in the
-inner loop, yet a new model must not cost a new numba compile. Each expression is
+inner loop, yet a new model must not cost new machine code. Each expression is
 therefore translated once, in Python, into a short postfix program (an array of
 opcodes with integer arguments and a table of floating-point constants), and a
-single numba function, compiled once and cached on disk, evaluates any program.
-Translating a model takes milliseconds; the evaluator costs a few nanoseconds per
-opcode.
+single C function, compiled when mechfit is installed (``mf_evaluate`` in
+``native/program.c``), evaluates any program. Translating a model takes
+milliseconds; the evaluator costs a few nanoseconds per opcode. :func:`evaluate`
+calls it from Python (for tests and examples; the integrators call it directly).
 
 Supported: numbers, state concentrations, parameters, initial concentrations
 ``X__0``, ``+``, ``*``, powers (integer powers by repeated multiplication), ``exp``,
@@ -32,14 +33,14 @@ from __future__ import annotations
 
 from collections.abc import Mapping
 
-import numba
 import numpy as np
 import sympy
 
 from mechfit.errors import MechanismError
 from mechfit.mechanism.symbols import INITIAL_SUFFIX
+from mechfit.simulate import compiled
 
-# opcodes ----------------------------------------------------------------------
+# opcodes (the same numbers as MF_OP_* in native/kinetics.h) -------------------
 OP_CONST = 0     # push consts[arg]
 OP_STATE = 1     # push y[arg]
 OP_PARAM = 2     # push p[arg]
@@ -168,65 +169,46 @@ class ProgramBuilder:
                 + ", ".join(known))
 
 
-@numba.njit(cache=True)
-def evaluate(ops, args, consts, start, end, y, p, x0, stack):  # pragma: no cover - compiled
+def evaluate(ops: np.ndarray, args: np.ndarray, consts: np.ndarray, start: int, end: int,
+             y: np.ndarray, p: np.ndarray, x0: np.ndarray, stack: np.ndarray) -> float:
     """Run the program ``ops[start:end]`` on state ``y``, parameters ``p`` and initial
-    concentrations ``x0``; ``stack`` is scratch space of at least the program's depth."""
-    sp = 0
-    for pc in range(start, end):
-        op = ops[pc]
-        a = args[pc]
-        if op == 1:
-            stack[sp] = y[a]
-            sp += 1
-        elif op == 2:
-            stack[sp] = p[a]
-            sp += 1
-        elif op == 0:
-            stack[sp] = consts[a]
-            sp += 1
-        elif op == 5:
-            v = stack[sp - 1]
-            for i in range(2, a + 1):
-                v *= stack[sp - i]
-            sp -= a
-            stack[sp] = v
-            sp += 1
-        elif op == 4:
-            v = stack[sp - 1]
-            for i in range(2, a + 1):
-                v += stack[sp - i]
-            sp -= a
-            stack[sp] = v
-            sp += 1
-        elif op == 7:
-            b = stack[sp - 1]
-            n = a if a >= 0 else -a
-            v = 1.0
-            for _ in range(n):
-                v *= b
-            stack[sp - 1] = v if a >= 0 else 1.0 / v
-        elif op == 3:
-            stack[sp] = x0[a]
-            sp += 1
-        elif op == 6:
-            e = stack[sp - 1]
-            b = stack[sp - 2]
-            sp -= 1
-            if b > 0.0:
-                stack[sp - 1] = np.exp(e * np.log(b))
-            elif b == 0.0 and e > 0.0:
-                stack[sp - 1] = 0.0
-            else:
-                stack[sp - 1] = np.nan
-        elif op == 8:
-            stack[sp - 1] = np.exp(stack[sp - 1])
-        elif op == 9:
-            b = stack[sp - 1]
-            stack[sp - 1] = np.log(b) if b > 0.0 else np.nan
-        elif op == 10:
-            stack[sp - 1] = abs(stack[sp - 1])
-        elif op == 11:
-            b = stack[sp - 1]
-            stack[sp - 1] = 1.0 if b > 0.0 else (-1.0 if b < 0.0 else 0.0)
-    return stack[0]
+    concentrations ``x0`` with the compiled stack machine.
+
+    Parameters
+    ----------
+    ops, args, consts
+        The arrays of :meth:`ProgramBuilder.arrays` (int64, int64, float64).
+    start, end
+        The slice returned by :meth:`ProgramBuilder.add`.
+    y, p, x0
+        float64 vectors the program indexes.
+    stack
+        float64 scratch space of at least :attr:`ProgramBuilder.max_depth` entries.
+
+    Returns
+    -------
+    float
+        The value of the expression.
+
+    Raises
+    ------
+    SimulationInputError
+        When an array has the wrong type or the program does not fit the vectors
+        (an index out of range, or a stack too small), before any evaluation.
+    """
+    f64, i64 = np.float64, np.int64
+    pointers = [compiled.pointer(ops, "ops", i64, (None,)),
+                compiled.pointer(args, "args", i64, (np.shape(ops)[0],)),
+                compiled.pointer(consts, "consts", f64, (None,))]
+    vectors = [compiled.pointer(v, name, f64, (None,))
+               for v, name in ((y, "y"), (p, "p"), (x0, "x0"))]
+    work = compiled.pointer(stack, "stack", f64, (None,), writeable=True)
+    lib = compiled.library()
+    if not lib.mf_check_program(pointers[0], pointers[1], ops.shape[0], consts.shape[0],
+                                y.shape[0], p.shape[0], x0.shape[0], stack.shape[0],
+                                int(start), int(end)):
+        raise compiled.SimulationInputError(
+            f"the program ops[{start}:{end}] does not fit: an opcode or index out of range "
+            f"for y ({y.shape[0]}), p ({p.shape[0]}), x0 ({x0.shape[0]}) or consts "
+            f"({consts.shape[0]}), or a stack of {stack.shape[0]} entries is too small")
+    return float(lib.mf_evaluate(*pointers, int(start), int(end), *vectors, work))
