@@ -26,8 +26,6 @@ from mechfit.mechanism import (
     parse_expression,
     parse_mechanism,
 )
-from mechfit.study import load_study  # noqa: E402  (after the mechanism layer it builds on)
-
 __version__ = "0.1.0.dev0"
 
 __all__ = [
@@ -36,3 +34,13 @@ __all__ = [
     "UnbalancedStepError", "__version__", "analyse_network", "load_mechanism",
     "load_study", "parse_expression", "parse_mechanism",
 ]
+
+
+def __getattr__(name: str):
+    # the study layer (pint, scipy.stats: about 2 s) is imported when first asked for,
+    # so that simulating or checking a mechanism does not wait for it
+    if name == "load_study":
+        from mechfit.study import load_study
+
+        return load_study
+    raise AttributeError(f"module 'mechfit' has no attribute {name!r}")

@@ -4,8 +4,6 @@ from __future__ import annotations
 
 import os
 
-from mechfit.pipeline import FitSettings, RankSettings
-
 
 def add_budget_options(p) -> None:
     """The fitting-budget options (``--starts``, ``--max-steps``, ``--seed``)."""
@@ -16,8 +14,12 @@ def add_budget_options(p) -> None:
     p.add_argument("--seed", type=int, default=0, help="random seed (default 0)")
 
 
-def fit_settings_from(args) -> FitSettings:
-    """The :class:`FitSettings` of the options added by :func:`add_budget_options`."""
+def fit_settings_from(args):
+    """The :class:`~mechfit.pipeline.FitSettings` of the options added by
+    :func:`add_budget_options` (the pipeline is imported here, not when the command
+    line is built, so that light verbs start quickly)."""
+    from mechfit.pipeline import FitSettings
+
     return FitSettings(starts=args.starts, max_steps=args.max_steps, seed=args.seed)
 
 
@@ -34,6 +36,8 @@ def add_fit_options(p) -> None:
     p.add_argument("--json", action="store_true", help="print one JSON object on stdout")
 
 
-def settings_from(args) -> RankSettings:
+def settings_from(args):
+    from mechfit.pipeline import RankSettings
+
     return RankSettings(variants=args.variants, fit=fit_settings_from(args),
                         workers=max(1, args.workers), exact_refits=not args.no_refits)

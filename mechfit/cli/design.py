@@ -12,10 +12,6 @@ import json
 import sys
 from pathlib import Path
 
-from mechfit.design.predict import DesignInputError, load_candidates
-from mechfit.design.proposal import MODES, DesignProblem, DesignSettings, describe, propose
-from mechfit.design.space import DesignSpace
-
 NAME = "design"
 HELP = "propose the next run that best separates the leading candidates (or pins parameters)"
 EXAMPLE = """example:
@@ -38,7 +34,9 @@ def add_arguments(p) -> None:
                         "deviation in the observable's unit (repeatable; default: the "
                         "study's observables and their known or fitted noise)")
     p.add_argument("--runs", type=int, default=1, help="runs to propose (default 1)")
-    p.add_argument("--mode", choices=MODES, default="discriminate",
+    # the modes are checked by DesignSettings (mechfit.design.proposal.MODES), so that
+    # building the command line does not import the inference stack
+    p.add_argument("--mode", default="discriminate",
                    help="discriminate (Box-Hill, default) or precision (D-optimal for the "
                         "best candidate)")
     p.add_argument("--candidates", type=int, default=None, metavar="N",
@@ -55,6 +53,7 @@ def add_arguments(p) -> None:
 
 
 def _measure(entries: list[str], study) -> tuple[tuple[str, ...], dict[str, float]]:
+    from mechfit.design.predict import DesignInputError
     from mechfit.study.units import canonical_factor
 
     names, noise = [], {}
@@ -78,6 +77,9 @@ def _measure(entries: list[str], study) -> tuple[tuple[str, ...], dict[str, floa
 
 
 def run(args) -> int:
+    from mechfit.design.predict import DesignInputError, load_candidates
+    from mechfit.design.proposal import DesignProblem, DesignSettings, propose
+    from mechfit.design.space import DesignSpace
     from mechfit.study import load_study
 
     space = DesignSpace.parse(args.vary)
@@ -110,6 +112,8 @@ def run(args) -> int:
 
 
 def _print(summary: dict, units) -> None:
+    from mechfit.design.proposal import describe
+
     label = "Box-Hill discrimination" if summary["mode"] == "discriminate" else \
         "D-optimal gain"
     print("candidates: " + ", ".join(f"{c['name']} [{c['variant']}] (weight {c['weight']:.2f})"
