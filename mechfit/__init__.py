@@ -26,6 +26,7 @@ from mechfit.mechanism import (
     parse_expression,
     parse_mechanism,
 )
+
 __version__ = "0.1.0.dev0"
 
 __all__ = [

@@ -298,7 +298,11 @@ def local_search(lik: Likelihood, start: np.ndarray, *, max_rounds: int = 50,
         return StartResult(start, u, -math.inf, False, "the model failed at the start", 1)
     message, success = "block search reached the round limit", False
     for _ in range(max_rounds):
-        u, n = _model_step(lik, u, max_evaluations, tolerance)
+        if evaluations >= max_evaluations:
+            message = (f"stopped after {evaluations} evaluations (the budget of a local "
+                       "search) before the log-likelihood settled")
+            break
+        u, n = _model_step(lik, u, max_evaluations - evaluations, tolerance)
         evaluations += n
         u = _noise_step(lik, u)
         new = float(lik.log_likelihood(u)[0])
@@ -420,7 +424,7 @@ def maximum_likelihood(
     extra_starts
         Further free vectors to start from (e.g. a previous optimum).
     max_evaluations
-        Cap on residual evaluations of each least-squares call.
+        Cap on the model evaluations of each local search (all its rounds together).
     tolerance
         ``ftol``, ``xtol`` and ``gtol`` of :func:`scipy.optimize.least_squares` (relative).
     current

@@ -24,7 +24,7 @@ from mechfit.compare.elpd import PARETO_K_UNRELIABLE
 from mechfit.compare.run_loo import log_predictive_density
 from mechfit.derive import derive_variant, derive_variants, split_variant_list
 from mechfit.errors import MechfitError
-from mechfit.infer.fit import FIT_TOLERANCE
+from mechfit.infer.fit import FIT_EVALUATIONS, FIT_TOLERANCE
 from mechfit.infer.inference_data import write_inference_data
 from mechfit.infer.likelihood import Likelihood
 from mechfit.infer.optimize import maximum_likelihood
@@ -210,10 +210,12 @@ def _held_out_density(study, outcome: CandidateOutcome, run: str,
         start = held.parameters.free_vector({n: float(v) for n, v in optimum.items()
                                              if n in held.parameters})
         fit = maximum_likelihood(held, starts=0, current=False, extra_starts=(start,),
-                                 seed=settings.seed, tolerance=FIT_TOLERANCE)
+                                 seed=settings.seed, tolerance=FIT_TOLERANCE,
+                                 max_evaluations=FIT_EVALUATIONS)
     else:
         fit = maximum_likelihood(held, starts=settings.starts, local=settings.local,
-                                 seed=settings.seed, tolerance=FIT_TOLERANCE)
+                                 seed=settings.seed, tolerance=FIT_TOLERANCE,
+                                 max_evaluations=FIT_EVALUATIONS)
     post = sample_posterior(held, fit.u, fit.covariance_free, settings.sampling())
     draws = post.natural().reshape(-1, len(held.parameters.names))
     take = np.linspace(0, len(draws) - 1, min(len(draws), 400)).astype(int)
