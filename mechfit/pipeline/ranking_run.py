@@ -8,6 +8,7 @@ Candidates are fitted in worker processes when ``workers > 1``; the ranking itse
 
 from __future__ import annotations
 
+import contextlib
 import dataclasses
 import json
 import multiprocessing
@@ -259,21 +260,20 @@ def _refit_job(study_path: str, text: str, name: str, variant: str, run: str,
     return _held_out_density(study, outcome, run, settings)
 
 
-def _refits(study, outcomes: list[CandidateOutcome], wanted, settings: RankSettings):
-    """Yield ((name, variant, run), log p(y_run | other runs)) for every wanted refit."""
+def _refits(study, outcomes: list[CandidateOutcome], wanted, settings: RankSettings,
+            pool: ProcessPoolExecutor | None = None):
+    """Yield ((name, variant, run), log p(y_run | other runs)) for every wanted refit
+    (in ``pool`` when one is given and there is more than one refit)."""
     texts = {(o.name, o.variant): o.mechanism_text for o in outcomes}
     optima = {(o.name, o.variant): {"maximum_likelihood": o.summary.get("maximum_likelihood",
                                                                         {})}
               for o in outcomes}
-    if settings.workers > 1 and len(wanted) > 1:
-        ctx = multiprocessing.get_context("spawn")
-        with ProcessPoolExecutor(max_workers=min(settings.workers, len(wanted)),
-                                 mp_context=ctx) as pool:
-            futures = {pool.submit(_refit_job, str(study.path), texts[(n, v)], n, v, run,
-                                   settings.fit, optima[(n, v)]): (n, v, run)
-                       for n, v, run in wanted}
-            for fut in as_completed(futures):
-                yield futures[fut], fut.result()
+    if pool is not None and len(wanted) > 1:
+        futures = {pool.submit(_refit_job, str(study.path), texts[(n, v)], n, v, run,
+                               settings.fit, optima[(n, v)]): (n, v, run)
+                   for n, v, run in wanted}
+        for fut in as_completed(futures):
+            yield futures[fut], fut.result()
     else:
         for n, v, run in wanted:
             outcome = CandidateOutcome(n, v, texts[(n, v)], "ok", summary=optima[(n, v)])
@@ -289,29 +289,39 @@ def rank_study_steps(study, mechanisms: Sequence[Mechanism],
     if len(set(keys)) != len(keys):
         raise MechfitError("two mechanisms share a name: " + ", ".join(
             sorted({k for k in keys if keys.count(k) > 1})) + "; rename one of the files")
-    outcomes: list[CandidateOutcome] = []
     total = len(jobs)
     yield Event("start", total=total)
-    if settings.workers > 1 and total > 1:
-        ctx = multiprocessing.get_context("spawn")
-        with ProcessPoolExecutor(max_workers=min(settings.workers, total),
-                                 mp_context=ctx) as pool:
-            # larger schemes first, so that the last job to finish is a small one (the
-            # longest-first rule of list scheduling; the results do not depend on it)
-            ordered = sorted(jobs, key=lambda job: -(len(job[0].species)
-                                                     + len(job[0].reactions())))
-            futures = {pool.submit(evaluate_from_text, str(study.path), m.to_text(), m.name,
-                                   v, settings.fit): (m, v) for m, v in ordered}
-            for fut in as_completed(futures):
-                m, v = futures[fut]
-                try:
-                    outcome = fut.result()
-                except Exception as exc:  # the worker process died
-                    outcome = CandidateOutcome(m.name, v, m.to_text(), "failed",
-                                               reason=f"worker failed: {exc}")
-                outcomes.append(outcome)
-                yield Event("fitted", outcome.key, len(outcomes), total, outcome.seconds,
-                            outcome.status)
+    # one pool of worker processes serves the fits and then the exact refits (a spawned
+    # worker spends seconds importing the scientific stack)
+    with contextlib.ExitStack() as stack:
+        pool = None
+        if settings.workers > 1 and (total > 1 or settings.exact_refits):
+            pool = stack.enter_context(ProcessPoolExecutor(
+                max_workers=settings.workers, mp_context=multiprocessing.get_context("spawn")))
+        yield from _rank_with(study, jobs, keys, settings, pool)
+
+
+def _rank_with(study, jobs, keys, settings: RankSettings,
+               pool: ProcessPoolExecutor | None) -> Iterator[Event | StudyRanking]:
+    outcomes: list[CandidateOutcome] = []
+    total = len(jobs)
+    if pool is not None and total > 1:
+        # larger schemes first, so that the last job to finish is a small one (the
+        # longest-first rule of list scheduling; the results do not depend on it)
+        ordered = sorted(jobs, key=lambda job: -(len(job[0].species)
+                                                 + len(job[0].reactions())))
+        futures = {pool.submit(evaluate_from_text, str(study.path), m.to_text(), m.name,
+                               v, settings.fit): (m, v) for m, v in ordered}
+        for fut in as_completed(futures):
+            m, v = futures[fut]
+            try:
+                outcome = fut.result()
+            except Exception as exc:  # the worker process died
+                outcome = CandidateOutcome(m.name, v, m.to_text(), "failed",
+                                           reason=f"worker failed: {exc}")
+            outcomes.append(outcome)
+            yield Event("fitted", outcome.key, len(outcomes), total, outcome.seconds,
+                        outcome.status)
     else:
         for m, v in jobs:
             outcome = evaluate_candidate(study, m, v, settings.fit)
@@ -339,7 +349,8 @@ def rank_study_steps(study, mechanisms: Sequence[Mechanism],
         if wanted:
             yield Event("refits", total=len(wanted))
             values = {}
-            for done, (item, value) in enumerate(_refits(study, good, wanted, settings), 1):
+            for done, (item, value) in enumerate(_refits(study, good, wanted, settings, pool),
+                                                 1):
                 values[item] = value
                 yield Event("refit", f"{item[0]} [{item[1]}] without {item[2]}", done,
                             len(wanted))
