@@ -194,7 +194,8 @@ def run(args) -> int:
         from mechfit.report import write_report
 
         ranking.write(args.report)
-        report = write_report(report_data_from_folder(args.report), args.report).html
+        report = write_report(report_data_from_folder(args.report), args.report,
+                              workers=min(args.workers, os.cpu_count() or 1)).html
     elapsed = time.perf_counter() - start
     if args.json:
         out = {"study": str(study.path), "store": str(store.path),

@@ -2,6 +2,7 @@
 
 from __future__ import annotations
 
+import os
 from pathlib import Path
 
 NAME = "report"
@@ -17,13 +18,19 @@ def add_arguments(p) -> None:
     p.add_argument("--out", type=Path, default=None,
                    help="where to write the report (default: the results folder itself)")
     p.add_argument("--overwrite", action="store_true", help="replace an existing report")
+    p.add_argument("--workers", type=int, default=min(2, os.cpu_count() or 1),
+                   help="processes that draw the figures (default: 2)")
 
 
 def run(args) -> int:
     from mechfit.pipeline.report_inputs import report_data_from_folder
     from mechfit.report import write_report
 
+    if args.workers < 1:
+        from mechfit.errors import MechfitError
+
+        raise MechfitError(f"--workers {args.workers}: expected a positive number")
     paths = write_report(report_data_from_folder(args.folder), args.out or args.folder,
-                         overwrite=args.overwrite)
+                         overwrite=args.overwrite, workers=args.workers)
     print(f"report: {paths.html}")
     return 0

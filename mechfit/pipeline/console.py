@@ -69,7 +69,7 @@ def run_ranking(study, mechanisms, settings: RankSettings, folder: Path, *,
             elif item.kind == "ranked":
                 progress.update(task, description="ranked")
     result.write(folder)
-    paths = write_report(report_data_from_folder(folder), folder)
+    paths = write_report(report_data_from_folder(folder), folder, workers=settings.workers)
     elapsed = time.perf_counter() - start
     if as_json:
         out = result.summary()

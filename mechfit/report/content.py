@@ -22,7 +22,7 @@ from mechfit.report.energetics import energy_levels
 from mechfit.report.figures.canvas import figure_to_png, figure_to_svg
 from mechfit.report.figures.energy_profile import plot_energy_profile
 from mechfit.report.figures.network import plot_network
-from mechfit.report.figures.posterior import plot_pair
+from mechfit.report.figures.posterior import plot_pair, posterior_draws
 from mechfit.report.figures.predictive import plot_predictive_bands, plot_residuals
 from mechfit.report.figures.rate_law import RateLawTypesetError, plot_rate_law
 from mechfit.report.figures.temperature import plot_temperature_dependence
@@ -96,14 +96,17 @@ class _Figures:
         self.all: list[RenderedFigure] = []
 
     def add(self, stem: str, caption: str, figure, *, svg: bool = False) -> RenderedFigure:
-        name = slug(stem)
-        base, n = name, 2
-        while name in self.taken:
-            name, n = f"{base}-{n}", n + 1
-        self.taken.add(name)
-        rendered = RenderedFigure(name, caption, figure_to_png(figure, self.dpi),
+        rendered = RenderedFigure(slug(stem), caption, figure_to_png(figure, self.dpi),
                                   figure_to_svg(figure) if svg else None)
         figure.clear()
+        return self.keep(rendered)
+
+    def keep(self, rendered: RenderedFigure) -> RenderedFigure:
+        """Add a drawn figure, renamed ``name-2``, ``name-3``... if its name is taken."""
+        base, n = rendered.slug, 2
+        while rendered.slug in self.taken:
+            rendered.slug, n = f"{base}-{n}", n + 1
+        self.taken.add(rendered.slug)
         self.all.append(rendered)
         return rendered
 
@@ -115,13 +118,13 @@ def _verdict_groups(candidates: list[CandidateReport]) -> list[dict]:
     return [{"verdict": v, "candidates": keys} for v, keys in groups.items()]
 
 
-def _candidate(c: CandidateReport, figures: _Figures, data: ReportData, pair: bool) -> dict:
+def _candidate(c: CandidateReport, figures: _Figures, ranges, pair: bool) -> dict:
     out: dict = {"key": c.key, "anchor": slug(c.key), "name": c.name, "variant": c.variant,
                  "verdict": c.ranking.verdict, "verdict_reason": c.ranking.verdict_reason,
                  "parameters": parameter_table(c.parameters) if c.parameters else None,
                  "identifiability_notes": list(c.identifiability_notes),
                  "approximation_notes": list(c.approximation_notes)}
-    unit = data.ranges.time_unit
+    unit = ranges.time_unit
     out["fit_figure"] = out["residual_figure"] = None
     if c.runs:
         out["fit_figure"] = figures.add(
@@ -141,7 +144,7 @@ def _candidate(c: CandidateReport, figures: _Figures, data: ReportData, pair: bo
             f"pairs-{c.key}", f"{c.key}: pairs of posterior draws (hexagonal bins) and each "
             "parameter's histogram.", plot_pair(c.posterior, c.pair_variables))
     out["temperature_figures"] = []
-    if c.temperature_dependence and data.ranges.temperature_varies:
+    if c.temperature_dependence and ranges.temperature_varies:
         for kind, words in (("arrhenius", "Arrhenius plot, ln k against 1/T"),
                             ("eyring", "Eyring plot, ln(k/T) against 1/T")):
             series = [s for s in c.temperature_dependence if s.kind == kind]
@@ -171,8 +174,41 @@ def _candidate(c: CandidateReport, figures: _Figures, data: ReportData, pair: bo
     return out
 
 
-def build_content(data: ReportData, *, dpi: float = 110) -> dict:
-    """Every section's tables, texts and drawn figures, as a plain dictionary."""
+def _candidate_alone(c: CandidateReport, ranges, pair: bool,
+                     dpi: float) -> tuple[dict, list[RenderedFigure]]:
+    """One candidate's section and its figures, drawn on their own (in a worker)."""
+    figures = _Figures(dpi)
+    return _candidate(c, figures, ranges, pair), figures.all
+
+
+def _candidates(data: ReportData, pair_keys: set[str], dpi: float,
+                workers: int) -> list[tuple[dict, list[RenderedFigure]]]:
+    """Every candidate's section and figures, drawn in ``workers`` processes when there
+    are several candidates (matplotlib takes about a second per grid of run panels)."""
+    jobs = [(c, data.ranges, c.key in pair_keys, dpi) for c in data.candidates]
+    if workers <= 1 or len(jobs) < 2:
+        return [_candidate_alone(*job) for job in jobs]
+    import dataclasses
+    import multiprocessing
+
+    # a worker needs the draws of the pair plot, not the whole InferenceData
+    # (pointwise log-likelihoods and predictive draws would be pickled for nothing)
+    jobs = [(dataclasses.replace(c, posterior=posterior_draws(c.posterior, c.pair_variables)
+                                 if pair and c.posterior is not None else None),
+             ranges, pair, dots) for c, ranges, pair, dots in jobs]
+    from concurrent.futures import ProcessPoolExecutor
+
+    with ProcessPoolExecutor(max_workers=min(workers, len(jobs)),
+                             mp_context=multiprocessing.get_context("spawn")) as pool:
+        return list(pool.map(_candidate_alone, *zip(*jobs, strict=True)))
+
+
+def build_content(data: ReportData, *, dpi: float = 110, workers: int = 1) -> dict:
+    """Every section's tables, texts and drawn figures, as a plain dictionary.
+
+    ``workers`` > 1 draws the candidates' figures in that many processes; the content is
+    the same either way.
+    """
     figures = _Figures(dpi)
     weights_figure = None
     if data.weights:
@@ -181,7 +217,11 @@ def build_content(data: ReportData, *, dpi: float = 110) -> dict:
             plot_model_weights(data.weights, order=[c.key for c in data.candidates]))
     with_posterior = [c for c in data.candidates if c.posterior is not None]
     pair_keys = {c.key for c in with_posterior[: max(data.pair_plot_candidates, 0)]}
-    candidates = [_candidate(c, figures, data, c.key in pair_keys) for c in data.candidates]
+    candidates = []
+    for section, drawn in _candidates(data, pair_keys, dpi, workers):
+        for figure in drawn:
+            figures.keep(figure)
+        candidates.append(section)
     networks = [{"name": name, "figure": figures.add(
         f"network-{name}", f"{name}: species (boxes) and steps (squares; hollow: two-way).",
         plot_network(graph, title=name))} for name, graph in data.networks.items()]

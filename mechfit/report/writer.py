@@ -73,7 +73,7 @@ def _write(path: Path, payload: bytes) -> None:
 
 
 def write_report(data: ReportData, out_dir: str | os.PathLike, *, overwrite: bool = False,
-                 dpi: float = 110) -> ReportPaths:
+                 dpi: float = 110, workers: int = 1) -> ReportPaths:
     """Render ``data`` and write the HTML, Markdown and JSON reports into ``out_dir``.
 
     Parameters
@@ -86,6 +86,8 @@ def write_report(data: ReportData, out_dir: str | os.PathLike, *, overwrite: boo
         Replace an earlier report in the folder (its old figure files are removed).
     dpi
         Resolution of the PNG figures.
+    workers
+        Processes that draw the candidates' figures (the report is the same either way).
 
     Raises
     ------
@@ -103,7 +105,7 @@ def write_report(data: ReportData, out_dir: str | os.PathLike, *, overwrite: boo
             f"report folder {str(folder)!r} already holds a report ({', '.join(found[:4])}"
             f"{', ...' if len(found) > 4 else ''}); choose another folder or pass "
             "overwrite=True (--overwrite) to replace it", tuple(found))
-    content = build_content(data, dpi=dpi)
+    content = build_content(data, dpi=dpi, workers=workers)
     figures = content["figures"]
     html = render_html_content(content)
     markdown = render_markdown_content(content, FIGURE_DIR)

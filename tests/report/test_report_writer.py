@@ -201,3 +201,17 @@ def test_user_text_is_escaped_in_html_and_markdown(tmp_path):
     assert "# \\<script\\>alert(1)\\</script\\> study" in text
     assert "best \\| supported" in text
     assert (tmp_path / "figures" / "fit-b-a-b-b-full.png").is_file()
+
+
+def test_figures_drawn_in_worker_processes_are_the_same_as_in_one(invented_report):
+    # the candidates' figures may be drawn in several processes (write_report(workers=))
+    from mechfit.report.content import build_content
+
+    one = build_content(invented_report, dpi=30, workers=1)
+    two = build_content(invented_report, dpi=30, workers=2)
+    assert len(invented_report.candidates) >= 2
+    assert [f.slug for f in one["figures"]] == [f.slug for f in two["figures"]]
+    assert [f.png for f in one["figures"]] == [f.png for f in two["figures"]]
+    assert [c["fit_figure"].slug for c in one["candidates"]] == \
+        [c["fit_figure"].slug for c in two["candidates"]]
+    assert len({f.slug for f in two["figures"]}) == len(two["figures"])

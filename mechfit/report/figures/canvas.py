@@ -83,5 +83,6 @@ def figure_to_svg(figure: Figure) -> str:
 
     buffer = io.StringIO()
     with matplotlib.rc_context(STYLE):
-        figure.savefig(buffer, format="svg", transparent=True)
+        # no creation date: the same figure gives the same file
+        figure.savefig(buffer, format="svg", transparent=True, metadata={"Date": None})
     return buffer.getvalue()
