@@ -5,8 +5,9 @@
  * Comput. 18 (1997) 1-22 (kappa coefficients given there), with step and order chosen
  * from the estimated local errors of orders k-1, k and k+1 (E. Hairer and G. Wanner,
  * Solving ODEs II, 1996, section III.7 for the backward difference form). A simplified
- * Newton iteration reuses the Jacobian across steps (refreshed only when the iteration
- * fails to converge; the LU factors when the step changes) and stops with the
+ * Newton iteration reuses the Jacobian across steps (evaluated again when the iteration
+ * fails to converge, or when the LU factors are renewed after JACOBIAN_AGE steps on
+ * one Jacobian; the LU factors are renewed when the step changes) and stops with the
  * convergence test of CVODE (A. C. Hindmarsh et al., ACM TOMS 31 (2005) 363-396).
  * Every Newton correction solves with I - c J, so linear invariants are kept. */
 #include <math.h>
@@ -14,10 +15,16 @@
 
 #include "kinetics.h"
 #include "lu.h"
+#include "mass_action.h"
 
 #define MAX_ORDER 5
 #define NEWTON_MAXITER 4
 #define EPS 2.220446049250313e-16
+/* the Jacobian is evaluated again, at the predicted state, when the iteration matrix is
+ * next factorised after this many accepted steps on one Jacobian: the rule of CVODE's
+ * dense linear solver (Hindmarsh et al., ACM TOMS 31 (2005) 363-396, section 2.1; the
+ * number is its constant CVD_MSBJ = 50 in SUNDIALS 2.x, cvode_direct_impl.h) */
+#define JACOBIAN_AGE 50
 /* the integrator is compiled once for each number of species from 2 to this, and once
  * for any number */
 #define SPECIALISED_MAX 8
@@ -80,29 +87,6 @@ MF_INLINE double rms(const double *v, double c, const double *scale, int64_t n)
     return sqrt(s / (double)n);
 }
 
-/* dy/dt = N r. For the few species of the specialised copies (n known) N is used dense,
- * with loops the compiler unrolls; for more species through its non-zero entries. Both
- * add the terms of each species in the order of the reactions: the same results. */
-MF_INLINE void rhs(mf_eval *e, const double *y, double *out, const int64_t n)
-{
-    if (n > SPECIALISED_MAX) {
-        mf_mass_action_rhs(e, y, out);
-        return;
-    }
-    const int64_t nr = e->m->n_reactions;
-    const int64_t *start = e->factor_start, *species = e->factor_species;
-    const double *kb = e->kbase, *st = e->stoich_t;
-    for (int64_t i = 0; i < n; i++)
-        out[i] = 0.0;
-    for (int64_t r = 0; r < nr; r++) {
-        double v = kb[r];
-        for (int64_t q = start[r]; q < start[r + 1]; q++)
-            v *= y[species[q]];
-        for (int64_t i = 0; i < n; i++)
-            out[i] += st[r * n + i] * v;
-    }
-}
-
 /* the method's coefficients */
 typedef struct {
     double gamma[MAX_ORDER + 1], alpha[MAX_ORDER + 1], error_const[MAX_ORDER + 1];
@@ -117,10 +101,13 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
                          const int64_t n)
 {
     const int64_t nn = n * n;
-    double *dd = work, *work_d = dd + (MAX_ORDER + 3) * n;
-    double *y = work_d + (MAX_ORDER + 1) * n, *ypred = y + n, *psi = ypred + n;
-    double *corr = psi + n, *f = corr + n, *scale = f + n, *rhsv = scale + n;
-    double *dy = rhsv + n, *jac = dy + n, *emat = jac + nn;
+    /* separate parts of the work memory (restrict: the compiler may keep them in
+     * registers) */
+    double *restrict dd = work, *restrict work_d = dd + (MAX_ORDER + 3) * n;
+    double *restrict y = work_d + (MAX_ORDER + 1) * n, *restrict ypred = y + n;
+    double *restrict psi = ypred + n, *restrict corr = psi + n, *restrict f = corr + n;
+    double *restrict scale = f + n, *restrict rhsv = scale + n, *restrict dy = rhsv + n;
+    double *restrict jac = dy + n, *restrict emat = jac + nn;
 
     for (int64_t s = 0; s < b->n_systems; s++) {
         if (b->status[s] != MF_OK)
@@ -144,7 +131,7 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
         if (iout >= count)
             continue;
         const double t_end = times[count - 1];
-        rhs(e, y, f, n);
+        mass_action_rhs(e, y, f, n);
         int finite = 1;
         for (int64_t i = 0; i < n; i++)
             if (!isfinite(f[i]))
@@ -165,7 +152,7 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
         double h = (d0 < 1e-5 || d1 < 1e-5) ? 1e-6 * t_end : 0.01 * d0 / d1;
         for (int64_t i = 0; i < n; i++)
             ypred[i] = y[i] + h * f[i];
-        rhs(e, ypred, psi, n);
+        mass_action_rhs(e, ypred, psi, n);
         for (int64_t i = 0; i < n; i++) {
             const double sc = atol[i] + rt * fabs(y[i]);
             d2 += ((psi[i] - f[i]) / sc) * ((psi[i] - f[i]) / sc);
@@ -185,7 +172,8 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
         mf_jacobian(e, y, jac);
         int lu_valid = 0;
         double crate = 1.0;
-        int64_t taken = 0;
+        int64_t taken = 0, accepted = 0;
+        int64_t jacobian_at = 0; /* accepted steps at the Jacobian's last evaluation */
         for (;;) {
             if (taken >= b->max_steps) {
                 b->status[s] = MF_STEP_CAP;
@@ -220,6 +208,11 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
             int current_jac = 0, converged = 0, n_iter = 0;
             for (;;) {
                 if (!lu_valid) {
+                    if (!current_jac && accepted - jacobian_at >= JACOBIAN_AGE) {
+                        mf_jacobian(e, ypred, jac);
+                        current_jac = 1;
+                        jacobian_at = accepted;
+                    }
                     for (int64_t i = 0; i < nn; i++)
                         emat[i] = -c * jac[i];
                     for (int64_t i = 0; i < n; i++)
@@ -239,7 +232,7 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
                     double norm_old = -1.0;
                     for (int it = 0; it < NEWTON_MAXITER; it++) {
                         n_iter = it + 1;
-                        rhs(e, y, f, n);
+                        mass_action_rhs(e, y, f, n);
                         int bad = 0;
                         for (int64_t i = 0; i < n; i++) {
                             if (!isfinite(f[i]))
@@ -270,6 +263,7 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
                     break;
                 mf_jacobian(e, ypred, jac);
                 current_jac = 1;
+                jacobian_at = accepted;
                 lu_valid = 0;
             }
             if (!converged) {
@@ -289,8 +283,9 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
             }
             const double err = rms(corr, co->error_const[order], scale, n);
             if (err > 1.0 || negative) {
-                const double factor =
-                    err > 1.0 ? MF_MAX(0.2, safety * pow(err, -1.0 / (order + 1))) : 0.5;
+                /* (the power once: MF_MAX evaluates its arguments twice) */
+                const double shrink = err > 1.0 ? safety * pow(err, -1.0 / (order + 1)) : 0.5;
+                const double factor = err > 1.0 ? MF_MAX(0.2, shrink) : 0.5;
                 change_differences(dd, n, order, factor, co->unit, work_d);
                 h *= factor;
                 n_equal = 0;
@@ -298,6 +293,7 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
                 continue;
             }
             /* accepted */
+            accepted++;
             n_equal++;
             for (int64_t i = 0; i < n; i++) {
                 dd[(order + 2) * n + i] = corr[i] - dd[(order + 1) * n + i];
@@ -308,12 +304,16 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
                     dd[a * n + i] += dd[(a + 1) * n + i];
             while (iout < count && times[iout] <= t_new) {
                 const double tout = times[iout];
+                double prod[MAX_ORDER];
+                double p = 1.0;
+                for (int a = 0; a < order; a++) {
+                    p *= (tout - (t_new - h * a)) / (h * (1 + a));
+                    prod[a] = p;
+                }
                 for (int64_t i = 0; i < n; i++) {
-                    double v = dd[i], prod = 1.0;
-                    for (int a = 0; a < order; a++) {
-                        prod *= (tout - (t_new - h * a)) / (h * (1 + a));
-                        v += dd[(a + 1) * n + i] * prod;
-                    }
+                    double v = dd[i];
+                    for (int a = 0; a < order; a++)
+                        v += dd[(a + 1) * n + i] * prod[a];
                     out[iout * n + i] = v > 0.0 ? v : 0.0;
                 }
                 iout++;
@@ -327,9 +327,12 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e,
                 ? rms(dd + order * n, co->error_const[order - 1], scale, n) : INFINITY;
             const double err_p = order < MAX_ORDER
                 ? rms(dd + (order + 2) * n, co->error_const[order + 1], scale, n) : INFINITY;
-            const double f_m = err_m > 0.0 ? pow(err_m, -1.0 / order) : INFINITY;
+            /* (an order out of range has the error estimate infinity and the factor 0) */
+            const double f_m = order == 1 ? 0.0
+                : err_m > 0.0 ? pow(err_m, -1.0 / order) : INFINITY;
             const double f_0 = err > 0.0 ? pow(err, -1.0 / (order + 1)) : INFINITY;
-            const double f_p = err_p > 0.0 ? pow(err_p, -1.0 / (order + 2)) : INFINITY;
+            const double f_p = order == MAX_ORDER ? 0.0
+                : err_p > 0.0 ? pow(err_p, -1.0 / (order + 2)) : INFINITY;
             /* the order whose error estimate allows the largest step (first on ties) */
             double best = f_m;
             int change = -1;

@@ -58,8 +58,8 @@ static int program_ok(const mf_model *m, int64_t start, int64_t end)
             push = 1;
             break;
         case MF_OP_ADD:
-        case MF_OP_MUL:
-            if (a < 1)
+        case MF_OP_MUL: /* of at least two values (sympy's sums and products) */
+            if (a < 2)
                 return 0;
             need = a;
             push = 1;

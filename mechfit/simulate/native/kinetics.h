@@ -131,15 +131,12 @@ typedef struct {
     int64_t *net_start;    /* n_reactions + 1: reaction r's non-zero column of N is */
     int64_t *net_species;  /* net_species/net_coef[net_start[r]:net_start[r + 1]] */
     double *net_coef;
-    int64_t *row_start;    /* n_state + 1: the same entries by species (rows of N), */
-    int64_t *row_reaction; /* row_reaction/row_coef[row_start[i]:row_start[i + 1]] */
-    double *row_coef;
     double *stoich_t;      /* n_reactions x n_state: N transposed, dense */
     int64_t *factor_start; /* n_reactions + 1: the species whose product is the rate */
     int64_t *factor_species; /* of reaction r, each repeated order times */
     double *kbase;         /* n_reactions: f_r k_r of the current system */
-    double *rates;         /* n_reactions */
     double *stack;         /* stack_size */
+    double *grad;          /* width: one reaction's gradient or Hessian row */
     const double *p;
     const double *x0;
 } mf_eval;
@@ -150,20 +147,14 @@ void mf_eval_close(mf_eval *e);
 void mf_eval_system(mf_eval *e, const double *p, const double *x0);
 void mf_rhs(mf_eval *e, const double *y, double *out);
 void mf_jacobian(mf_eval *e, const double *y, double *jac);
-void mf_forcing(mf_eval *e, const double *y, const int64_t *dirpos, int64_t nq,
-                double *forcing);
-void mf_coupling(mf_eval *e, const double *y, const double *sens, const double *u,
-                 const int64_t *dirpos, int64_t nq, double *out);
+void mf_sensitivity_jacobian(mf_eval *e, const double *y, const double *sens,
+                             const int64_t *dirpos, int64_t nq, double *hs);
 
 /* mass_action.c */
-void mf_mass_action_rates(mf_eval *e, const double *y);
 void mf_mass_action_rhs(mf_eval *e, const double *y, double *out);
 void mf_mass_action_jacobian(mf_eval *e, const double *y, double *jac);
-void mf_mass_action_forcing(mf_eval *e, const double *y, const int64_t *dirpos, int64_t nq,
-                            double *forcing);
-void mf_mass_action_coupling(mf_eval *e, const double *y, const double *sens,
-                             const double *u, const int64_t *dirpos, int64_t nq,
-                             double *out);
+void mf_mass_action_sensitivity_jacobian(mf_eval *e, const double *y, const double *sens,
+                                         const int64_t *dirpos, int64_t nq, double *hs);
 
 /* program.c */
 double mf_evaluate(const int64_t *ops, const int64_t *args, const double *consts,
@@ -171,10 +162,11 @@ double mf_evaluate(const int64_t *ops, const int64_t *args, const double *consts
                    const double *x0, double *stack);                     /* entry point */
 void mf_program_rhs(mf_eval *e, const double *y, double *out);
 void mf_program_jacobian(mf_eval *e, const double *y, double *jac);
-void mf_program_forcing(mf_eval *e, const double *y, const int64_t *dirpos, int64_t nq,
-                        double *forcing);
-void mf_program_coupling(mf_eval *e, const double *y, const double *sens, const double *u,
-                         const int64_t *dirpos, int64_t nq, double *out);
+void mf_program_sensitivity_rhs(mf_eval *e, const double *y, const double *sens,
+                                const int64_t *dirpos, int64_t nq, double *f, double *g,
+                                double *jac);
+void mf_program_sensitivity_jacobian(mf_eval *e, const double *y, const double *sens,
+                                     const int64_t *dirpos, int64_t nq, double *hs);
 void mf_outputs(mf_eval *e, const int64_t *state_index, const double *y, double *out);
 void mf_output_sensitivities(mf_eval *e, const int64_t *state_index, const double *y,
                              const double *sens, const int64_t *dirpos, int64_t nq,

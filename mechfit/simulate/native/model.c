@@ -24,23 +24,18 @@ int mf_eval_open(mf_eval *e, const mf_model *m)
     e->net_start = alloc((size_t)nr + 1, sizeof(int64_t));
     e->net_species = alloc((size_t)nnz, sizeof(int64_t));
     e->net_coef = alloc((size_t)nnz, sizeof(double));
-    e->row_start = alloc((size_t)n + 1, sizeof(int64_t));
-    e->row_reaction = alloc((size_t)nnz, sizeof(int64_t));
-    e->row_coef = alloc((size_t)nnz, sizeof(double));
     e->stoich_t = alloc((size_t)(nr * n), sizeof(double));
     e->factor_start = alloc((size_t)nr + 1, sizeof(int64_t));
     e->factor_species = alloc((size_t)nfac, sizeof(int64_t));
     e->kbase = alloc((size_t)nr, sizeof(double));
-    e->rates = alloc((size_t)nr, sizeof(double));
     e->stack = alloc((size_t)m->stack_size, sizeof(double));
-    if (!e->net_start || !e->net_species || !e->net_coef || !e->row_start ||
-        !e->row_reaction || !e->row_coef || !e->stoich_t || !e->factor_start || !e->factor_species ||
-        !e->kbase || !e->rates || !e->stack) {
+    e->grad = alloc((size_t)w, sizeof(double));
+    if (!e->net_start || !e->net_species || !e->net_coef || !e->stoich_t || !e->factor_start ||
+        !e->factor_species || !e->kbase || !e->stack || !e->grad) {
         mf_eval_close(e);
         return MF_NO_MEMORY;
     }
-    /* the non-zero entries of N by column (reaction) and by row (species), each in
-     * ascending order of the other index */
+    /* the non-zero entries of N by column (reaction), in ascending order of species */
     int64_t q = 0;
     for (int64_t r = 0; r < nr; r++) {
         e->net_start[r] = q;
@@ -52,17 +47,6 @@ int mf_eval_open(mf_eval *e, const mf_model *m)
             }
     }
     e->net_start[nr] = q;
-    q = 0;
-    for (int64_t i = 0; i < n; i++) {
-        e->row_start[i] = q;
-        for (int64_t r = 0; r < nr; r++)
-            if (m->stoich[i * nr + r] != 0.0) {
-                e->row_reaction[q] = r;
-                e->row_coef[q] = m->stoich[i * nr + r];
-                q++;
-            }
-    }
-    e->row_start[n] = q;
     for (int64_t r = 0; r < nr; r++)
         for (int64_t i = 0; i < n; i++)
             e->stoich_t[r * n + i] = m->stoich[i * nr + r];
@@ -82,18 +66,14 @@ void mf_eval_close(mf_eval *e)
     free(e->net_start);
     free(e->net_species);
     free(e->net_coef);
-    free(e->row_start);
-    free(e->row_reaction);
-    free(e->row_coef);
     free(e->stoich_t);
     free(e->factor_start);
     free(e->factor_species);
     free(e->kbase);
-    free(e->rates);
     free(e->stack);
-    e->net_start = e->net_species = e->row_start = e->row_reaction = NULL;
-    e->factor_start = e->factor_species = NULL;
-    e->net_coef = e->row_coef = e->stoich_t = e->kbase = e->rates = e->stack = NULL;
+    free(e->grad);
+    e->net_start = e->net_species = e->factor_start = e->factor_species = NULL;
+    e->net_coef = e->stoich_t = e->kbase = e->stack = e->grad = NULL;
 }
 
 /* the parameters and initial concentrations of the next system */
@@ -122,20 +102,11 @@ void mf_jacobian(mf_eval *e, const double *y, double *jac)
         mf_program_jacobian(e, y, jac);
 }
 
-void mf_forcing(mf_eval *e, const double *y, const int64_t *dirpos, int64_t nq,
-                double *forcing)
+void mf_sensitivity_jacobian(mf_eval *e, const double *y, const double *sens,
+                             const int64_t *dirpos, int64_t nq, double *hs)
 {
     if (e->m->kind == MF_KIND_MASS_ACTION)
-        mf_mass_action_forcing(e, y, dirpos, nq, forcing);
+        mf_mass_action_sensitivity_jacobian(e, y, sens, dirpos, nq, hs);
     else
-        mf_program_forcing(e, y, dirpos, nq, forcing);
-}
-
-void mf_coupling(mf_eval *e, const double *y, const double *sens, const double *u,
-                 const int64_t *dirpos, int64_t nq, double *out)
-{
-    if (e->m->kind == MF_KIND_MASS_ACTION)
-        mf_mass_action_coupling(e, y, sens, u, dirpos, nq, out);
-    else
-        mf_program_coupling(e, y, sens, u, dirpos, nq, out);
+        mf_program_sensitivity_jacobian(e, y, sens, dirpos, nq, hs);
 }

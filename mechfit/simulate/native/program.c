@@ -11,70 +11,69 @@ double mf_evaluate(const int64_t *ops, const int64_t *args, const double *consts
                    int64_t start, int64_t end, const double *y, const double *p,
                    const double *x0, double *stack)
 {
-    int64_t sp = 0;
+    double *top = stack - 1; /* the value on top of the stack */
     for (int64_t pc = start; pc < end; pc++) {
         const int64_t a = args[pc];
         double v, b, ex;
         switch (ops[pc]) {
         case MF_OP_STATE:
-            stack[sp++] = y[a];
+            *++top = y[a];
             break;
         case MF_OP_PARAM:
-            stack[sp++] = p[a];
+            *++top = p[a];
             break;
         case MF_OP_CONST:
-            stack[sp++] = consts[a];
+            *++top = consts[a];
             break;
-        case MF_OP_MUL:
-            v = stack[sp - 1];
-            for (int64_t i = 2; i <= a; i++)
-                v *= stack[sp - i];
-            sp -= a;
-            stack[sp++] = v;
+        case MF_OP_MUL: /* the top value times the next ones, down the stack */
+            v = top[0] * top[-1];
+            for (int64_t i = 2; i < a; i++)
+                v *= top[-i];
+            top -= a - 1;
+            *top = v;
             break;
         case MF_OP_ADD:
-            v = stack[sp - 1];
-            for (int64_t i = 2; i <= a; i++)
-                v += stack[sp - i];
-            sp -= a;
-            stack[sp++] = v;
+            v = top[0] + top[-1];
+            for (int64_t i = 2; i < a; i++)
+                v += top[-i];
+            top -= a - 1;
+            *top = v;
             break;
         case MF_OP_POWI: {
-            b = stack[sp - 1];
+            b = *top;
             const int64_t n = a >= 0 ? a : -a;
             v = 1.0;
             for (int64_t i = 0; i < n; i++)
                 v *= b;
-            stack[sp - 1] = a >= 0 ? v : 1.0 / v;
+            *top = a >= 0 ? v : 1.0 / v;
             break;
         }
         case MF_OP_INITIAL:
-            stack[sp++] = x0[a];
+            *++top = x0[a];
             break;
         case MF_OP_POW:
-            ex = stack[sp - 1];
-            b = stack[sp - 2];
-            sp -= 1;
+            ex = *top--;
+            b = *top;
             if (b > 0.0)
-                stack[sp - 1] = exp(ex * log(b));
+                *top = exp(ex * log(b));
             else if (b == 0.0 && ex > 0.0)
-                stack[sp - 1] = 0.0;
+                *top = 0.0;
             else
-                stack[sp - 1] = NAN;
+                *top = NAN;
             break;
         case MF_OP_EXP:
-            stack[sp - 1] = exp(stack[sp - 1]);
+            *top = exp(*top);
             break;
         case MF_OP_LOG:
-            b = stack[sp - 1];
-            stack[sp - 1] = b > 0.0 ? log(b) : NAN;
+            b = *top;
+            *top = b > 0.0 ? log(b) : NAN;
             break;
         case MF_OP_ABS:
-            stack[sp - 1] = fabs(stack[sp - 1]);
+            *top = fabs(*top);
             break;
         case MF_OP_SIGN:
-            b = stack[sp - 1];
-            stack[sp - 1] = b > 0.0 ? 1.0 : (b < 0.0 ? -1.0 : 0.0);
+            b = *top;
+            *top = b > 0.0 ? 1.0 : (b < 0.0 ? -1.0 : 0.0);
             break;
         default:
             break;
@@ -107,38 +106,60 @@ void mf_program_jacobian(mf_eval *e, const double *y, double *jac)
     }
 }
 
-void mf_program_forcing(mf_eval *e, const double *y, const int64_t *dirpos, int64_t nq,
-                        double *forcing)
+/* f = dy/dt and g_j = J sens_j + df/d theta_j for the nq selected directions j (vectors
+ * of direction j at [j n, j n + n)); J itself into jac unless jac is NULL (the Jacobian
+ * programs run once for both) */
+void mf_program_sensitivity_rhs(mf_eval *e, const double *y, const double *sens,
+                                const int64_t *dirpos, int64_t nq, double *f, double *g,
+                                double *jac)
 {
     const mf_model *m = e->m;
-    for (int64_t i = 0; i < m->n_state * nq; i++)
-        forcing[i] = 0.0;
-    for (int64_t k = 0; k < m->n_forcing; k++) {
+    const int64_t n = m->n_state;
+    mf_program_rhs(e, y, f);
+    if (jac)
+        for (int64_t i = 0; i < n * n; i++)
+            jac[i] = 0.0;
+    for (int64_t i = 0; i < n * nq; i++)
+        g[i] = 0.0;
+    if (nq == 0 && !jac)
+        return;
+    for (int64_t k = 0; k < m->n_forcing && nq > 0; k++) {
         const int64_t *row = m->forcing + 4 * k;
         const int64_t j = dirpos[row[1]];
         if (j >= 0)
-            forcing[row[0] * nq + j] = run(e, row + 2, y);
+            g[j * n + row[0]] += run(e, row + 2, y);
+    }
+    for (int64_t k = 0; k < m->n_jacobian; k++) {
+        const int64_t *row = m->jacobian + 4 * k;
+        const double v = run(e, row + 2, y);
+        if (jac)
+            jac[row[0] * n + row[1]] = v;
+        for (int64_t j = 0; j < nq; j++)
+            g[j * n + row[0]] += v * sens[j * n + row[1]];
     }
 }
 
-void mf_program_coupling(mf_eval *e, const double *y, const double *sens, const double *u,
-                         const int64_t *dirpos, int64_t nq, double *out)
+/* hs[(j n + l) n + i] = d/dy_l (J sens_j + df/d theta_j)_i: the off-diagonal blocks of
+ * the Jacobian of the sensitivity system, stored by column, from the second and mixed
+ * derivatives (sens_j at [j n, j n + n)) */
+void mf_program_sensitivity_jacobian(mf_eval *e, const double *y, const double *sens,
+                                     const int64_t *dirpos, int64_t nq, double *hs)
 {
     const mf_model *m = e->m;
-    for (int64_t i = 0; i < m->n_state * nq; i++)
-        out[i] = 0.0;
+    const int64_t n = m->n_state;
+    for (int64_t i = 0; i < n * n * nq; i++)
+        hs[i] = 0.0;
     for (int64_t k = 0; k < m->n_second; k++) {
         const int64_t *row = m->second + 5 * k;
-        const double vu = run(e, row + 3, y) * u[row[1]];
-        const int64_t i = row[0], s = row[2];
+        const double v = run(e, row + 3, y);
         for (int64_t j = 0; j < nq; j++)
-            out[i * nq + j] += vu * sens[s * nq + j];
+            hs[(j * n + row[1]) * n + row[0]] += v * sens[j * n + row[2]];
     }
     for (int64_t k = 0; k < m->n_mixed; k++) {
         const int64_t *row = m->mixed + 5 * k;
         const int64_t j = dirpos[row[2]];
         if (j >= 0)
-            out[row[0] * nq + j] += run(e, row + 3, y) * u[row[1]];
+            hs[(j * n + row[1]) * n + row[0]] += run(e, row + 3, y);
     }
 }
 
@@ -155,16 +176,18 @@ void mf_outputs(mf_eval *e, const int64_t *state_index, const double *y, double 
     }
 }
 
-/* sensitivities of all mechanism species, out[column * nq + j]: state rows copied,
- * algebraic rows by the chain rule dg/dy sens + dg/dtheta */
+/* sensitivities of all mechanism species, out[column * nq + j], from those of the state
+ * stored by direction (sens[j n + k]): state rows copied, algebraic rows by the chain
+ * rule dg/dy sens + dg/dtheta */
 void mf_output_sensitivities(mf_eval *e, const int64_t *state_index, const double *y,
                              const double *sens, const int64_t *dirpos, int64_t nq,
                              double *out)
 {
     const mf_model *m = e->m;
-    for (int64_t k = 0; k < m->n_state; k++)
+    const int64_t n = m->n_state;
+    for (int64_t k = 0; k < n; k++)
         for (int64_t j = 0; j < nq; j++)
-            out[state_index[k] * nq + j] = sens[k * nq + j];
+            out[state_index[k] * nq + j] = sens[j * n + k];
     for (int64_t a = 0; a < m->n_algebraic; a++)
         for (int64_t j = 0; j < nq; j++)
             out[m->algebraic[3 * a] * nq + j] = 0.0;
@@ -173,7 +196,7 @@ void mf_output_sensitivities(mf_eval *e, const int64_t *state_index, const doubl
         const double v = run(e, row + 2, y);
         const int64_t col = m->algebraic[3 * row[0]], s = row[1];
         for (int64_t j = 0; j < nq; j++)
-            out[col * nq + j] += v * sens[s * nq + j];
+            out[col * nq + j] += v * sens[j * n + s];
     }
     for (int64_t k = 0; k < m->n_algebraic_direction; k++) {
         const int64_t *row = m->algebraic_direction + 4 * k;

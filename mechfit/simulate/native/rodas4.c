@@ -9,7 +9,13 @@
  * order-3 continuous extension for output between steps. With sensitivities the
  * augmented system [y, s_q] is integrated: its Jacobian is block lower triangular
  * [[J, 0], [H_q, J]], so every stage reuses the one LU of the state block, solving the
- * state first and then each sensitivity column with H_q u added on the right.
+ * state first and then each sensitivity column with H_q u added on the right. J and H_q
+ * are those of the step's start: they are evaluated once per accepted step and kept
+ * across rejections (which change only h), and H_q = d/dy (J s_q + df/d theta_q) is
+ * formed as an n x n matrix, so that a stage needs only its product with u. The stages
+ * evaluate f(Y_i) and J(Y_i) S_i + df/d theta(Y_i) together (on the mass-action path
+ * without forming J(Y_i)). Inside, sensitivities are stored by direction (column q of
+ * S is sens[q n .. q n + n - 1]).
  *
  * Every system has its own step sizes, error norm (weighted RMS over its own state and
  * sensitivity components) and step count, and ends with a status code. */
@@ -19,6 +25,7 @@
 
 #include "kinetics.h"
 #include "lu.h"
+#include "mass_action.h"
 
 #define GAMMA 0.25
 
@@ -48,7 +55,7 @@ static const double D[2][5] = {
      -6.594389125716872},
 };
 
-static int all_finite(const double *v, int64_t n)
+MF_INLINE int all_finite(const double *v, int64_t n)
 {
     for (int64_t i = 0; i < n; i++)
         if (!isfinite(v[i]))
@@ -56,30 +63,22 @@ static int all_finite(const double *v, int64_t n)
     return 1;
 }
 
-/* f = dy/dt; with sensitivities also g = J sens + forcing */
-static void augmented_rhs(mf_eval *e, const double *y, const double *sens,
-                          const int64_t *dirpos, int64_t nq, double *jac, double *f,
-                          double *g)
+/* f = dy/dt, g_j = J sens_j + df/d theta_j and (unless jac is NULL) J: mass action
+ * inline, so that the copies for a known n get loops of known length */
+MF_INLINE void sensitivity_rhs(mf_eval *e, const double *y, const double *sens,
+                               const int64_t *dirpos, int64_t nq, double *f, double *g,
+                               double *jac, const int64_t n)
 {
-    const int64_t n = e->m->n_state;
-    mf_rhs(e, y, f);
-    if (nq == 0)
-        return;
-    mf_jacobian(e, y, jac);
-    mf_forcing(e, y, dirpos, nq, g);
-    for (int64_t i = 0; i < n; i++)
-        for (int64_t j = 0; j < nq; j++) {
-            double s = g[i * nq + j];
-            for (int64_t m = 0; m < n; m++)
-                s += jac[i * n + m] * sens[m * nq + j];
-            g[i * nq + j] = s;
-        }
+    if (e->m->kind == MF_KIND_MASS_ACTION)
+        mass_action_sensitivity_rhs(e, y, sens, dirpos, nq, f, g, jac, n);
+    else
+        mf_program_sensitivity_rhs(e, y, sens, dirpos, nq, f, g, jac);
 }
 
 /* write the outputs (and their sensitivities) of one output time */
-static void write_output(mf_eval *e, const mf_batch *b, int64_t s, int64_t iout,
-                         const double *y, const double *sens, double *outrow,
-                         double *outsens, int clip)
+MF_NOINLINE void write_output(mf_eval *e, const mf_batch *b, int64_t s, int64_t iout,
+                              const double *y, const double *sens, double *outrow,
+                              double *outsens, int clip)
 {
     const int64_t n_out = e->m->n_species, nq = b->n_directions;
     mf_outputs(e, b->state_index, y, outrow);
@@ -93,60 +92,56 @@ static void write_output(mf_eval *e, const mf_batch *b, int64_t s, int64_t iout,
     }
 }
 
-int mf_solve_rodas4(const mf_model *m, mf_batch *b)
+/* Integrate every system of the batch; n is the number of state species. Inlined into
+ * one copy per small n below, so that the compiler knows n and unrolls the loops over
+ * the species (the same operations in the same order: the results do not change). */
+MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e, double *work,
+                         int64_t *piv, const int64_t n)
 {
-    const int64_t n = m->n_state, nq = b->n_directions, n_out = m->n_species;
+    const int64_t nq = b->n_directions, n_out = m->n_species;
     const int64_t nn = n * n, nsq = n * nq;
-    mf_eval e;
-    if (mf_eval_open(&e, m) != MF_DONE)
-        return MF_NO_MEMORY;
-    /* work memory, one block: 14 n + 3 n^2 + 13 n nq + n_out (1 + nq) doubles */
-    const size_t doubles = (size_t)(14 * n + 3 * nn + 13 * nsq + n_out * (1 + nq));
-    double *work = malloc(sizeof(double) * (doubles > 0 ? doubles : 1));
-    int64_t *piv = malloc(sizeof(int64_t) * (size_t)(n > 0 ? n : 1));
-    if (!work || !piv) {
-        free(work);
-        free(piv);
-        mf_eval_close(&e);
-        return MF_NO_MEMORY;
-    }
     double *y = work, *ynew = y + n, *ystage = ynew + n, *f = ystage + n;
-    double *fstage = f + n, *col = fstage + n, *xcol = col + n, *ydense = xcol + n;
-    double *k = ydense + n;                 /* 6 x n (ends at 14 n) */
-    double *jac = k + 6 * n, *jac_stage = jac + nn, *emat = jac_stage + nn;
+    double *fstage = f + n, *col = fstage + n, *ydense = col + n;
+    double *k = ydense + n;                 /* 6 x n (ends at 13 n) */
+    double *jac = k + 6 * n, *emat = jac + nn;
     double *sens = emat + nn, *snew = sens + nsq, *sstage = snew + nsq;
-    double *g = sstage + nsq, *gstage = g + nsq, *coupling = gstage + nsq;
-    double *sdense = coupling + nsq;
-    double *ks = sdense + nsq;              /* 6 x n x nq (ends at 13 n nq) */
-    double *outrow = ks + 6 * nsq, *outsens = outrow + n_out;
+    double *g = sstage + nsq, *gstage = g + nsq, *scol = gstage + nsq;
+    double *sdense = scol + nsq;
+    double *ks = sdense + nsq;              /* 6 x nq x n (ends at 13 n nq) */
+    double *hs = ks + 6 * nsq;              /* nq x n x n, by column */
+    double *outrow = hs + nn * nq, *outsens = outrow + n_out;
 
     for (int64_t s = 0; s < b->n_systems; s++) {
         if (b->status[s] != MF_OK)
             continue;
-        mf_eval_system(&e, b->params + s * m->n_parameters, b->x0 + s * m->n_species);
+        mf_eval_system(e, b->params + s * m->n_parameters, b->x0 + s * m->n_species);
         const double rt = b->rtol[s];
         const double *atol = b->atol + s * n;
         const double *satol = b->sens_atol + s * nq;
         const double *times = b->times + s * b->n_times;
-        for (int64_t i = 0; i < n; i++)
+        for (int64_t i = 0; i < n; i++) {
             y[i] = b->y0[s * n + i];
-        for (int64_t i = 0; i < nsq; i++)
-            sens[i] = b->sens_init[i];
+            for (int64_t j = 0; j < nq; j++)
+                sens[j * n + i] = b->sens_init[i * nq + j];
+        }
         const int64_t count = b->counts[s];
         int64_t iout = 0;
         double t = 0.0;
         while (iout < count && times[iout] <= 0.0) {
-            write_output(&e, b, s, iout, y, sens, outrow, outsens, 0);
+            write_output(e, b, s, iout, y, sens, outrow, outsens, 0);
             iout++;
         }
         if (iout >= count)
             continue;
         const double t_end = times[count - 1];
-        augmented_rhs(&e, y, sens, b->dirpos, nq, jac, f, g);
+        /* f, g, J and H_q at the start of the step: evaluated again only when y moves */
+        sensitivity_rhs(e, y, sens, b->dirpos, nq, f, g, jac, n);
         if (!(all_finite(f, n) && all_finite(g, nsq))) {
             b->status[s] = MF_NOT_FINITE;
             continue;
         }
+        if (nq > 0)
+            mf_sensitivity_jacobian(e, y, sens, b->dirpos, nq, hs);
         /* initial step (Hairer, Norsett & Wanner, Solving ODEs I, section II.4) */
         double d0 = 0.0, d1 = 0.0, d2 = 0.0, h;
         for (int64_t i = 0; i < n; i++) {
@@ -159,7 +154,7 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
         h = (d0 < 1e-5 || d1 < 1e-5) ? 1e-6 * t_end : 0.01 * d0 / d1;
         for (int64_t i = 0; i < n; i++)
             ystage[i] = y[i] + h * f[i];
-        mf_rhs(&e, ystage, fstage);
+        mf_rhs(e, ystage, fstage);
         for (int64_t i = 0; i < n; i++) {
             const double sc = atol[i] + rt * fabs(y[i]);
             d2 += ((fstage[i] - f[i]) / sc) * ((fstage[i] - f[i]) / sc);
@@ -183,8 +178,7 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
                 break;
             }
             taken++;
-            /* iteration matrix E = I/(h gamma) - J at the start of the step */
-            mf_jacobian(&e, y, jac);
+            /* iteration matrix E = I/(h gamma) - J */
             const double fac = 1.0 / (h * GAMMA);
             for (int64_t i = 0; i < nn; i++)
                 emat[i] = -jac[i];
@@ -209,15 +203,15 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
                         for (int q = 0; q < st; q++)
                             v += A[st][q] * k[q * n + i];
                         ystage[i] = v;
-                        for (int64_t j = 0; j < nq; j++) {
-                            double w = sens[i * nq + j];
-                            for (int q = 0; q < st; q++)
-                                w += A[st][q] * ks[q * nsq + i * nq + j];
-                            sstage[i * nq + j] = w;
-                        }
                     }
-                    augmented_rhs(&e, ystage, sstage, b->dirpos, nq, jac_stage, fstage,
-                                  gstage);
+                    for (int64_t x = 0; x < nsq; x++)
+                        sstage[x] = sens[x];
+                    for (int q = 0; q < st; q++) {
+                        const double a = A[st][q], *kq = ks + q * nsq;
+                        for (int64_t x = 0; x < nsq; x++)
+                            sstage[x] += a * kq[x];
+                    }
+                    sensitivity_rhs(e, ystage, sstage, b->dirpos, nq, fstage, gstage, NULL, n);
                     fs = fstage;
                     gs = gstage;
                 }
@@ -230,23 +224,26 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
                 lu_solve(emat, piv, col, kst, n);
                 if (!all_finite(kst, n))
                     finite = 0;
-                if (nq > 0) {
-                    mf_coupling(&e, y, sens, kst, b->dirpos, nq, coupling);
-                    for (int64_t j = 0; j < nq; j++) {
-                        for (int64_t i = 0; i < n; i++) {
-                            double v = gs[i * nq + j] + coupling[i * nq + j];
-                            for (int q = 0; q < st; q++)
-                                v += ch[st][q] * ks[q * nsq + i * nq + j];
-                            col[i] = v;
-                        }
-                        lu_solve(emat, piv, col, xcol, n);
-                        for (int64_t i = 0; i < n; i++) {
-                            ksst[i * nq + j] = xcol[i];
-                            if (!isfinite(xcol[i]))
-                                finite = 0;
-                        }
+                /* each sensitivity column: g_q + H_q u + sum_j (c_j / h) ks_j */
+                for (int64_t j = 0; j < nq; j++) {
+                    const double *hj = hs + j * nn, *gj = gs + j * n;
+                    double *sj = scol + j * n;
+                    for (int64_t i = 0; i < n; i++)
+                        sj[i] = gj[i];
+                    for (int64_t l = 0; l < n; l++) {
+                        const double u = kst[l], *hjl = hj + l * n;
+                        for (int64_t i = 0; i < n; i++)
+                            sj[i] += hjl[i] * u;
                     }
+                    for (int q = 0; q < st; q++) {
+                        const double c = ch[st][q], *kq = ks + q * nsq + j * n;
+                        for (int64_t i = 0; i < n; i++)
+                            sj[i] += c * kq[i];
+                    }
+                    lu_solve(emat, piv, sj, ksst + j * n, n);
                 }
+                if (!all_finite(ksst, nsq))
+                    finite = 0;
             }
             if (!finite) {
                 h *= 0.25;
@@ -255,19 +252,21 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
             }
             /* new solution and error estimate (stiffly accurate: err = u_6) */
             const double *k5 = k + 5 * n, *ks5 = ks + 5 * nsq;
+            for (int64_t i = 0; i < n; i++)
+                ynew[i] = ystage[i] + k5[i];
+            for (int64_t x = 0; x < nsq; x++)
+                snew[x] = sstage[x] + ks5[x];
             double err = 0.0;
             int negative = 0;
             for (int64_t i = 0; i < n; i++) {
-                ynew[i] = ystage[i] + k5[i];
                 double sc = atol[i] + rt * MF_MAX(fabs(y[i]), fabs(ynew[i]));
                 err += (k5[i] / sc) * (k5[i] / sc);
                 if (ynew[i] < -atol[i])
                     negative = 1;
                 for (int64_t j = 0; j < nq; j++) {
-                    const int64_t ij = i * nq + j;
-                    snew[ij] = sstage[ij] + ks5[ij];
-                    sc = satol[j] + rt * MF_MAX(fabs(sens[ij]), fabs(snew[ij]));
-                    err += (ks5[ij] / sc) * (ks5[ij] / sc);
+                    const int64_t x = j * n + i;
+                    sc = satol[j] + rt * MF_MAX(fabs(sens[x]), fabs(snew[x]));
+                    err += (ks5[x] / sc) * (ks5[x] / sc);
                 }
             }
             err = sqrt(err / (double)(n * (1 + nq)));
@@ -276,7 +275,9 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
                 rejected = 1;
                 continue;
             }
-            double factor = err > 0.0 ? MF_MIN(5.0, MF_MAX(0.2, 0.9 * pow(err, -0.25))) : 5.0;
+            /* (the power once: MF_MIN and MF_MAX evaluate their arguments twice) */
+            const double grow = err > 0.0 ? 0.9 * pow(err, -0.25) : 5.0;
+            double factor = MF_MIN(5.0, MF_MAX(0.2, grow));
             if (err > 1.0 || negative) {
                 h *= MF_MIN(factor, 0.5);
                 rejected = 1;
@@ -296,18 +297,16 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
                         c4 += D[1][q] * k[q * n + i];
                     }
                     ydense[i] = y[i] * th1 + theta * (ynew[i] + th1 * (c3 + theta * c4));
-                    for (int64_t j = 0; j < nq; j++) {
-                        const int64_t ij = i * nq + j;
-                        c3 = 0.0;
-                        c4 = 0.0;
-                        for (int q = 0; q < 5; q++) {
-                            c3 += D[0][q] * ks[q * nsq + ij];
-                            c4 += D[1][q] * ks[q * nsq + ij];
-                        }
-                        sdense[ij] = sens[ij] * th1 + theta * (snew[ij] + th1 * (c3 + theta * c4));
-                    }
                 }
-                write_output(&e, b, s, iout, ydense, sdense, outrow, outsens, 1);
+                for (int64_t x = 0; x < nsq; x++) {
+                    double c3 = 0.0, c4 = 0.0;
+                    for (int q = 0; q < 5; q++) {
+                        c3 += D[0][q] * ks[q * nsq + x];
+                        c4 += D[1][q] * ks[q * nsq + x];
+                    }
+                    sdense[x] = sens[x] * th1 + theta * (snew[x] + th1 * (c3 + theta * c4));
+                }
+                write_output(e, b, s, iout, ydense, sdense, outrow, outsens, 1);
                 iout++;
             }
             t = t_new;
@@ -315,11 +314,13 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
             memcpy(sens, snew, sizeof(double) * (size_t)nsq);
             if (iout >= count)
                 break;
-            augmented_rhs(&e, y, sens, b->dirpos, nq, jac_stage, f, g);
+            sensitivity_rhs(e, y, sens, b->dirpos, nq, f, g, jac, n);
             if (!(all_finite(f, n) && all_finite(g, nsq))) {
                 b->status[s] = MF_NOT_FINITE;
                 break;
             }
+            if (nq > 0)
+                mf_sensitivity_jacobian(e, y, sens, b->dirpos, nq, hs);
             if (rejected)
                 factor = MF_MIN(factor, 1.0);
             rejected = 0;
@@ -327,6 +328,49 @@ int mf_solve_rodas4(const mf_model *m, mf_batch *b)
         }
         b->steps[s] = taken;
         b->t_reached[s] = t;
+    }
+}
+
+#define SPECIALISED(N)                                                                   \
+    static void integrate_##N(const mf_model *m, mf_batch *b, mf_eval *e, double *work,  \
+                              int64_t *piv)                                              \
+    {                                                                                    \
+        integrate(m, b, e, work, piv, N);                                                \
+    }
+SPECIALISED(2)
+SPECIALISED(3)
+SPECIALISED(4)
+SPECIALISED(5)
+SPECIALISED(6)
+SPECIALISED(7)
+SPECIALISED(8)
+
+int mf_solve_rodas4(const mf_model *m, mf_batch *b)
+{
+    const int64_t n = m->n_state, nq = b->n_directions, n_out = m->n_species;
+    const int64_t nn = n * n, nsq = n * nq;
+    mf_eval e;
+    if (mf_eval_open(&e, m) != MF_DONE)
+        return MF_NO_MEMORY;
+    /* work memory, one block: 13 n + 2 n^2 + 13 n nq + n^2 nq + n_out (1 + nq) doubles */
+    const size_t doubles = (size_t)(13 * n + 2 * nn + 13 * nsq + nn * nq + n_out * (1 + nq));
+    double *work = malloc(sizeof(double) * (doubles > 0 ? doubles : 1));
+    int64_t *piv = malloc(sizeof(int64_t) * (size_t)(n > 0 ? n : 1));
+    if (!work || !piv) {
+        free(work);
+        free(piv);
+        mf_eval_close(&e);
+        return MF_NO_MEMORY;
+    }
+    switch (n) {
+    case 2: integrate_2(m, b, &e, work, piv); break;
+    case 3: integrate_3(m, b, &e, work, piv); break;
+    case 4: integrate_4(m, b, &e, work, piv); break;
+    case 5: integrate_5(m, b, &e, work, piv); break;
+    case 6: integrate_6(m, b, &e, work, piv); break;
+    case 7: integrate_7(m, b, &e, work, piv); break;
+    case 8: integrate_8(m, b, &e, work, piv); break;
+    default: integrate(m, b, &e, work, piv, n); break;
     }
     free(work);
     free(piv);
