@@ -77,7 +77,8 @@ def test_rank_writes_results_and_a_self_contained_report(ranked):
 def test_report_rebuilds_from_the_folder_and_never_overwrites(ranked, tmp_path, capsys):
     out, _data = ranked
     assert main(["report", str(out)]) == 2  # a report is there already
-    assert "already holds a report" in capsys.readouterr().err
+    err = capsys.readouterr().err
+    assert "already holds a report" in err and "--overwrite" in err
     assert main(["report", str(out), "--out", str(tmp_path / "again")]) == 0
     assert (tmp_path / "again" / "report.html").is_file()
 
