@@ -26,6 +26,7 @@
 #include "kinetics.h"
 #include "lu.h"
 #include "mass_action.h"
+#include "step_size.h"
 
 #define GAMMA 0.25
 
@@ -142,28 +143,13 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e, double *wor
         }
         if (nq > 0)
             mf_sensitivity_jacobian(e, y, sens, b->dirpos, nq, hs);
-        /* initial step (Hairer, Norsett & Wanner, Solving ODEs I, section II.4) */
-        double d0 = 0.0, d1 = 0.0, d2 = 0.0, h;
-        for (int64_t i = 0; i < n; i++) {
-            const double sc = atol[i] + rt * fabs(y[i]);
-            d0 += (y[i] / sc) * (y[i] / sc);
-            d1 += (f[i] / sc) * (f[i] / sc);
-        }
-        d0 = sqrt(d0 / (double)n);
-        d1 = sqrt(d1 / (double)n);
-        h = (d0 < 1e-5 || d1 < 1e-5) ? 1e-6 * t_end : 0.01 * d0 / d1;
+        /* initial step for order 4 */
+        double d1;
+        const double h0 = trial_step(y, f, atol, rt, n, t_end, &d1);
         for (int64_t i = 0; i < n; i++)
-            ystage[i] = y[i] + h * f[i];
+            ystage[i] = y[i] + h0 * f[i];
         mf_rhs(e, ystage, fstage);
-        for (int64_t i = 0; i < n; i++) {
-            const double sc = atol[i] + rt * fabs(y[i]);
-            d2 += ((fstage[i] - f[i]) / sc) * ((fstage[i] - f[i]) / sc);
-        }
-        d2 = sqrt(d2 / (double)n) / h;
-        const double big = MF_MAX(d1, d2);
-        const double h1 = (isfinite(big) && big > 1e-15) ? pow(0.01 / big, 0.2)
-                                                         : MF_MAX(1e-6 * t_end, h * 1e-3);
-        h = MF_MIN(MF_MIN(100.0 * h, h1), t_end);
+        double h = first_step(y, f, fstage, atol, rt, n, h0, d1, t_end, 4.0);
         int rejected = 0;
         int64_t taken = 0;
         for (;;) {
