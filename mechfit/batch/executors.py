@@ -28,8 +28,7 @@ class ExecutorError(MechfitError):
 
 def _limit_threads() -> None:
     # one BLAS thread per worker process: the workers are the parallelism
-    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS",
-                "NUMBA_NUM_THREADS"):
+    for var in ("OMP_NUM_THREADS", "OPENBLAS_NUM_THREADS", "MKL_NUM_THREADS"):
         os.environ.setdefault(var, "1")
 
 

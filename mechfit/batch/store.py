@@ -32,6 +32,7 @@ from typing import Any
 
 from mechfit import __version__
 from mechfit.errors import MechfitError
+from mechfit.plain_json import json_default
 
 SCHEMA = """
 CREATE TABLE IF NOT EXISTS results (
@@ -167,7 +168,7 @@ class ResultStore:
                 "INSERT OR IGNORE INTO results (key, name, variant, status, reason, summary, "
                 "posterior, seconds, finished, version) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?, ?)",
                 (key, name, variant, status, reason,
-                 json.dumps(summary, sort_keys=True, default=_json_default), posterior_name,
+                 json.dumps(summary, sort_keys=True, default=json_default), posterior_name,
                  seconds, time.time(), __version__))
             con.execute("COMMIT")
         except BaseException:
@@ -198,14 +199,3 @@ class ResultStore:
         return n
 
 
-def _json_default(value):
-    try:
-        import numpy as np
-
-        if isinstance(value, np.generic):
-            return value.item()
-        if isinstance(value, np.ndarray):
-            return value.tolist()
-    except ImportError:  # pragma: no cover
-        pass
-    return str(value)

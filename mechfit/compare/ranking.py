@@ -66,6 +66,7 @@ from mechfit.compare.verdicts import (
     cross_check_disagrees,
 )
 from mechfit.compare.weights import PredictiveWeights, akaike_weights, predictive_weights
+from mechfit.plain_json import json_safe
 
 PRIMARY_CRITERION = "elpd_loo"
 CROSS_CHECK = "aicc"
@@ -226,21 +227,7 @@ class CandidateResult:
             "residuals": self.residuals.summary(),
             "approximation": None if self.approximation is None else self.approximation.summary(),
         }
-        return _json_safe(out)
-
-
-def _json_safe(value):
-    if isinstance(value, dict):
-        return {str(k): _json_safe(v) for k, v in value.items()}
-    if isinstance(value, list | tuple):
-        return [_json_safe(v) for v in value]
-    if isinstance(value, bool | np.bool_):
-        return bool(value)
-    if isinstance(value, int | np.integer):
-        return int(value)
-    if isinstance(value, float | np.floating):
-        return float(value) if math.isfinite(value) else None
-    return value
+        return json_safe(out)
 
 
 @dataclass(frozen=True)
@@ -333,7 +320,7 @@ class Ranking:
         ``weight`` and ``verdict`` (see ``docs/ranking.md`` for all keys).
         """
         best = self.best
-        return _json_safe({
+        return json_safe({
             "primary_criterion": self.primary_criterion,
             "cross_check": self.cross_check,
             "criteria_agree": self.criteria_agree,

@@ -38,6 +38,7 @@ from mechfit.pipeline.evaluate import (
     evaluate_candidate,
     evaluate_from_text,
 )
+from mechfit.plain_json import json_default
 
 RESULT_FILES = ("ranking.json", "ranking.md")
 
@@ -149,12 +150,12 @@ class StudyRanking:
             sub.mkdir(parents=True, exist_ok=True)
             written.append(write_inference_data(o.idata, sub / "posterior.nc"))
             with open(sub / "fit.json", "x", encoding="utf-8") as handle:
-                json.dump(o.summary, handle, indent=2, default=_json_default)
+                json.dump(o.summary, handle, indent=2, default=json_default)
                 handle.write("\n")
             written.append(sub / "fit.json")
             (sub / "mechanism.mech").write_text(o.mechanism_text, encoding="utf-8")
         with open(folder / "ranking.json", "x", encoding="utf-8") as handle:
-            json.dump(self.summary(), handle, indent=2, default=_json_default)
+            json.dump(self.summary(), handle, indent=2, default=json_default)
             handle.write("\n")
         with open(folder / "ranking.md", "x", encoding="utf-8") as handle:
             handle.write(f"# Ranking: {getattr(self.study, 'title', '')}\n\n```\n"
@@ -183,14 +184,6 @@ def study_info(study) -> dict:
 def _folder_name(name: str, variant: str) -> str:
     safe = "".join(ch if ch.isalnum() or ch in "-_." else "_" for ch in variant)
     return f"{name}__{safe}"
-
-
-def _json_default(value):
-    if isinstance(value, np.generic):
-        return value.item()
-    if isinstance(value, np.ndarray):
-        return value.tolist()
-    return str(value)
 
 
 def _held_out_density(study, outcome: CandidateOutcome, run: str,

@@ -12,40 +12,14 @@ Examples
 
 from __future__ import annotations
 
-import dataclasses
 import json
-import math
-from collections.abc import Mapping
 
-import numpy as np
-
+from mechfit.plain_json import json_safe
 from mechfit.report.data import ReportData
 from mechfit.report.energetics import energy_levels
 
 #: version of the JSON layout; raised when a key changes meaning or disappears
 SCHEMA_VERSION = 1
-
-
-def json_safe(value):
-    """``value`` as plain JSON types (dicts, lists, str, int, float, bool, None)."""
-    if isinstance(value, Mapping):
-        return {str(k): json_safe(v) for k, v in value.items()}
-    if dataclasses.is_dataclass(value) and not isinstance(value, type):
-        return {f.name: json_safe(getattr(value, f.name)) for f in dataclasses.fields(value)}
-    if isinstance(value, (list, tuple)):
-        return [json_safe(v) for v in value]
-    if isinstance(value, np.ndarray):
-        return json_safe(value.tolist())
-    if isinstance(value, (bool, np.bool_)):
-        return bool(value)
-    if isinstance(value, (int, np.integer)):
-        return int(value)
-    if isinstance(value, (float, np.floating)):
-        x = float(value)
-        return x if math.isfinite(x) else None
-    if value is None or isinstance(value, str):
-        return value
-    return str(value)
 
 
 def report_summary(data: ReportData, *, cautions: list[str],
