@@ -47,6 +47,7 @@ True
 from __future__ import annotations
 
 import json
+import warnings
 from pathlib import Path
 
 import numpy as np
@@ -111,16 +112,20 @@ def inference_data(posterior: Posterior, *, fit: MaximumLikelihood | None = None
     dims["point_observable"] = ["point"]
     constant["point_time"] = obs.time
     dims["point_time"] = ["point"]
-    idata = az.from_dict(
-        posterior=post,
-        sample_stats=sample_stats,
-        log_likelihood=log_lik,
-        posterior_predictive={"y": replicate.reshape((*shape, obs.n))} if predictive else None,
-        observed_data={"y": obs.values},
-        constant_data=constant,
-        coords=coords,
-        dims=dims,
-    )
+    with warnings.catch_warnings():
+        # each walker is a chain: a short budget may keep fewer draws than walkers, which
+        # arviz warns of as a likely transposed array; here the layout is known to be right
+        warnings.filterwarnings("ignore", message="More chains", category=UserWarning)
+        idata = az.from_dict(
+            posterior=post,
+            sample_stats=sample_stats,
+            log_likelihood=log_lik,
+            posterior_predictive={"y": replicate.reshape((*shape, obs.n))} if predictive else None,
+            observed_data={"y": obs.values},
+            constant_data=constant,
+            coords=coords,
+            dims=dims,
+        )
     od = idata.observed_data
     od.coords["run_name"] = ("point", [obs.run_names[r] for r in obs.run])
     od.coords["observable"] = ("point", [obs.observable_names[o] for o in obs.observable])

@@ -87,3 +87,19 @@ def test_netcdf_round_trip_and_no_silent_overwrite(fitted, tmp_path):
     assert path.read_bytes() == before
     with pytest.raises(Exception, match="no such posterior"):
         read_inference_data(tmp_path / "missing.nc")
+
+
+def test_short_budget_with_more_walkers_than_draws_is_quiet(fitted):
+    # a batch's reduced budget may keep fewer draws per walker than walkers: the layout
+    # (walker = chain) is right, so arviz's "More chains than draws" warning is not shown
+    import warnings
+
+    lik, fit, _post, _idata = fitted
+    short = sample_posterior(lik, fit.u, fit.covariance_free,
+                             SamplingSettings(walkers=40, min_steps=20, max_steps=20,
+                                              moves="de"))
+    assert short.draws.shape[0] > short.draws.shape[1]
+    with warnings.catch_warnings():
+        warnings.simplefilter("error", UserWarning)
+        idata = inference_data(short, fit=fit)
+    assert idata.posterior.sizes["chain"] == short.draws.shape[0]
