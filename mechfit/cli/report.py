@@ -25,18 +25,12 @@ def add_arguments(p) -> None:
 def run(args) -> int:
     from mechfit.errors import MechfitError
     from mechfit.pipeline.report_inputs import report_data_from_folder
-    from mechfit.report import existing_report_files, write_report
+    from mechfit.report import check_report_folder, write_report
 
     if args.workers < 1:
         raise MechfitError(f"--workers {args.workers}: expected a positive number")
-    target = args.out or args.folder
-    found = existing_report_files(target) if Path(target).is_dir() else ()
-    if found and not args.overwrite:
-        # refused before the results are read: nothing is drawn only to be thrown away
-        raise MechfitError(
-            f"report folder {str(target)!r} already holds a report ({', '.join(found[:4])}"
-            f"{', ...' if len(found) > 4 else ''}); pass --overwrite to replace it, or "
-            "--out to write elsewhere")
+    # refused before the results are read: nothing is drawn only to be thrown away
+    check_report_folder(args.out or args.folder, overwrite=args.overwrite)
     paths = write_report(report_data_from_folder(args.folder), args.out or args.folder,
                          overwrite=args.overwrite, workers=args.workers)
     print(f"report: {paths.html}")

@@ -20,7 +20,12 @@ from mechfit.report.data import (
 )
 from mechfit.report.errors import ReportError, ReportExistsError
 from mechfit.report.posterior_summary import correlation_notes, parameter_rows
-from mechfit.report.writer import ReportPaths, existing_report_files, write_report
+from mechfit.report.writer import (
+    ReportPaths,
+    check_report_folder,
+    existing_report_files,
+    write_report,
+)
 
 __all__ = [
     "CandidateReport",
@@ -39,6 +44,7 @@ __all__ = [
     "StudyRanges",
     "TemperatureDependence",
     "correlation_notes",
+    "check_report_folder",
     "existing_report_files",
     "parameter_rows",
     "write_report",

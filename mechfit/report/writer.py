@@ -66,6 +66,36 @@ def existing_report_files(folder: str | os.PathLike) -> tuple[str, ...]:
     return tuple(found)
 
 
+def check_report_folder(out_dir: str | os.PathLike, *, overwrite: bool = False) -> None:
+    """Refuse a report folder that is a file, or that holds a report unless ``overwrite``.
+
+    :func:`write_report` calls it first; a caller that has slow work to do before writing
+    (reading a results folder) calls it before that work.
+
+    Raises
+    ------
+    ReportExistsError
+        The folder holds report files and ``overwrite`` is false.
+    ReportError
+        ``out_dir`` is a file.
+
+    Examples
+    --------
+    >>> import tempfile
+    >>> with tempfile.TemporaryDirectory() as tmp:
+    ...     check_report_folder(tmp)   # empty: nothing to refuse
+    """
+    folder = Path(out_dir)
+    if folder.exists() and not folder.is_dir():
+        raise ReportError(f"report folder {str(folder)!r} is a file; give a folder")
+    found = existing_report_files(folder) if folder.is_dir() else ()
+    if found and not overwrite:
+        raise ReportExistsError(
+            f"report folder {str(folder)!r} already holds a report ({', '.join(found[:4])}"
+            f"{', ...' if len(found) > 4 else ''}); choose another folder or pass "
+            "overwrite=True (--overwrite) to replace it", tuple(found))
+
+
 def _write(path: Path, payload: bytes) -> None:
     temporary = path.with_name(path.name + ".partial")
     temporary.write_bytes(payload)
@@ -97,14 +127,7 @@ def write_report(data: ReportData, out_dir: str | os.PathLike, *, overwrite: boo
         ``out_dir`` is a file, or the data cannot be drawn.
     """
     folder = Path(out_dir)
-    if folder.exists() and not folder.is_dir():
-        raise ReportError(f"report folder {str(folder)!r} is a file; give a folder")
-    found = existing_report_files(folder) if folder.is_dir() else ()
-    if found and not overwrite:
-        raise ReportExistsError(
-            f"report folder {str(folder)!r} already holds a report ({', '.join(found[:4])}"
-            f"{', ...' if len(found) > 4 else ''}); choose another folder or pass "
-            "overwrite=True (--overwrite) to replace it", tuple(found))
+    check_report_folder(folder, overwrite=overwrite)
     content = build_content(data, dpi=dpi, workers=workers)
     figures = content["figures"]
     html = render_html_content(content)

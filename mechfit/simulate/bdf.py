@@ -7,7 +7,8 @@ given there; the same scheme as ``scipy.integrate.BDF``), with step and order
 selection from the estimated local errors of orders k-1, k and k+1 (E. Hairer and
 G. Wanner, Solving ODEs II, 1996, section III.7 for the backward difference
 form). A simplified Newton iteration reuses the Jacobian across steps (refreshed
-only when the iteration fails to converge; the LU factors when the step changes),
+when the iteration fails to converge, or after 50 steps on one Jacobian when the LU
+factors are next renewed; the LU factors when the step changes),
 and stops with the convergence test of CVODE (A. C. Hindmarsh et al., ACM TOMS 31
 (2005) 363-396): so a step costs one or two right-hand sides and triangular
 solves, which is what makes long, tightly toleranced, stiff runs cheap.
