@@ -76,6 +76,20 @@ MF_INLINE void sensitivity_rhs(mf_eval *e, const double *y, const double *sens,
         mf_program_sensitivity_rhs(e, y, sens, dirpos, nq, f, g, jac);
 }
 
+/* f, g, J and H_q at the start of a step (evaluated again only when y moves); false
+ * when f or g is not finite */
+MF_INLINE int step_start(mf_eval *e, const double *y, const double *sens,
+                         const int64_t *dirpos, int64_t nq, double *f, double *g, double *jac,
+                         double *hs, const int64_t n)
+{
+    sensitivity_rhs(e, y, sens, dirpos, nq, f, g, jac, n);
+    if (!(all_finite(f, n) && all_finite(g, n * nq)))
+        return 0;
+    if (nq > 0)
+        mf_sensitivity_jacobian(e, y, sens, dirpos, nq, hs);
+    return 1;
+}
+
 /* write the outputs (and their sensitivities) of one output time */
 MF_NOINLINE void write_output(mf_eval *e, const mf_batch *b, int64_t s, int64_t iout,
                               const double *y, const double *sens, double *outrow,
@@ -135,14 +149,10 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e, double *wor
         if (iout >= count)
             continue;
         const double t_end = times[count - 1];
-        /* f, g, J and H_q at the start of the step: evaluated again only when y moves */
-        sensitivity_rhs(e, y, sens, b->dirpos, nq, f, g, jac, n);
-        if (!(all_finite(f, n) && all_finite(g, nsq))) {
+        if (!step_start(e, y, sens, b->dirpos, nq, f, g, jac, hs, n)) {
             b->status[s] = MF_NOT_FINITE;
             continue;
         }
-        if (nq > 0)
-            mf_sensitivity_jacobian(e, y, sens, b->dirpos, nq, hs);
         /* initial step for order 4 */
         double d1;
         const double h0 = trial_step(y, f, atol, rt, n, t_end, &d1);
@@ -300,13 +310,10 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e, double *wor
             memcpy(sens, snew, sizeof(double) * (size_t)nsq);
             if (iout >= count)
                 break;
-            sensitivity_rhs(e, y, sens, b->dirpos, nq, f, g, jac, n);
-            if (!(all_finite(f, n) && all_finite(g, nsq))) {
+            if (!step_start(e, y, sens, b->dirpos, nq, f, g, jac, hs, n)) {
                 b->status[s] = MF_NOT_FINITE;
                 break;
             }
-            if (nq > 0)
-                mf_sensitivity_jacobian(e, y, sens, b->dirpos, nq, hs);
             if (rejected)
                 factor = MF_MIN(factor, 1.0);
             rejected = 0;
