@@ -76,6 +76,23 @@ MF_INLINE void sensitivity_rhs(mf_eval *e, const double *y, const double *sens,
         mf_program_sensitivity_rhs(e, y, sens, dirpos, nq, f, g, jac);
 }
 
+/* the order-3 continuous extension at theta in [0, 1] of a step from u0 to u1 with the
+ * stage increments k (5 blocks of len values): the same formula for the state and for
+ * the sensitivities */
+MF_INLINE void dense_output(const double *u0, const double *u1, const double *k, int64_t len,
+                            double theta, double *out)
+{
+    const double th1 = 1.0 - theta;
+    for (int64_t x = 0; x < len; x++) {
+        double c3 = 0.0, c4 = 0.0;
+        for (int q = 0; q < 5; q++) {
+            c3 += D[0][q] * k[q * len + x];
+            c4 += D[1][q] * k[q * len + x];
+        }
+        out[x] = u0[x] * th1 + theta * (u1[x] + th1 * (c3 + theta * c4));
+    }
+}
+
 /* f, g, J and H_q at the start of a step (evaluated again only when y moves); false
  * when f or g is not finite */
 MF_INLINE int step_start(mf_eval *e, const double *y, const double *sens,
@@ -285,23 +302,8 @@ MF_INLINE void integrate(const mf_model *m, mf_batch *b, mf_eval *e, double *wor
                 double theta = (times[iout] - t) / h;
                 if (theta > 1.0)
                     theta = 1.0;
-                const double th1 = 1.0 - theta;
-                for (int64_t i = 0; i < n; i++) {
-                    double c3 = 0.0, c4 = 0.0;
-                    for (int q = 0; q < 5; q++) {
-                        c3 += D[0][q] * k[q * n + i];
-                        c4 += D[1][q] * k[q * n + i];
-                    }
-                    ydense[i] = y[i] * th1 + theta * (ynew[i] + th1 * (c3 + theta * c4));
-                }
-                for (int64_t x = 0; x < nsq; x++) {
-                    double c3 = 0.0, c4 = 0.0;
-                    for (int q = 0; q < 5; q++) {
-                        c3 += D[0][q] * ks[q * nsq + x];
-                        c4 += D[1][q] * ks[q * nsq + x];
-                    }
-                    sdense[x] = sens[x] * th1 + theta * (snew[x] + th1 * (c3 + theta * c4));
-                }
+                dense_output(y, ynew, k, n, theta, ydense);
+                dense_output(sens, snew, ks, nsq, theta, sdense);
                 write_output(e, b, s, iout, ydense, sdense, outrow, outsens, 1);
                 iout++;
             }
