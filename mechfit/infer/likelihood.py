@@ -311,12 +311,18 @@ class Likelihood:
         return mu + s * z
 
     # ---- pieces the optimiser needs ----------------------------------------------------
-    def prediction_and_jacobian(self, u: np.ndarray) -> tuple[np.ndarray, np.ndarray | None]:
-        """Predictions (m, n) and d prediction / d u (m, n, q), or None without sensitivities."""
+    def prediction_and_jacobian(self, u: np.ndarray, *, search: bool = False
+                                ) -> tuple[np.ndarray, np.ndarray | None]:
+        """Predictions (m, n) and d prediction / d u (m, n, q), or None without sensitivities.
+
+        ``search=True`` takes the model's cheaper search sensitivities when it has them
+        (for search directions only, never for the reported covariance).
+        """
         x = self.parameters.natural(u)
         if self.model.sensitivities is None:
             return self.predict(x), None
-        mu, dmu_dx = self.model.sensitivities(x[:, self.model_columns])
+        sens = (self.model.search_sensitivities if search else None) or self.model.sensitivities
+        mu, dmu_dx = sens(x[:, self.model_columns])
         dx_du = self.parameters.natural_jacobian(u)[:, self.model_columns, :]
         return np.asarray(mu, float), np.einsum("mnp,mpq->mnq", dmu_dx, dx_du)
 

@@ -136,11 +136,16 @@ class ModelFunction:
         ``x (m, P) -> prediction (m, n)``.
     sensitivities
         Optional ``x (m, P) -> (prediction (m, n), d prediction / d x (m, n, P))``.
+    search_sensitivities
+        Optional cheaper, less accurate ``sensitivities`` (a simulator model's at a looser
+        integration tolerance) for the search directions of a least-squares search;
+        ``sensitivities`` when not given.
     """
 
     parameter_names: tuple[str, ...]
     predict: Callable[[np.ndarray], np.ndarray]
     sensitivities: Callable[[np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None
+    search_sensitivities: Callable[[np.ndarray], tuple[np.ndarray, np.ndarray]] | None = None
 
     def __call__(self, x: np.ndarray) -> np.ndarray:
         return self.predict(x)

@@ -12,9 +12,14 @@ Procedure
    :math:`(y_i-\mu_i)/s_i` with the noise held fixed, Student-t points through an exact
    robust loss :math:`\rho(z) = (\nu+1)\log(1+z/\nu)`; the Jacobian is the model's
    sensitivities chained through the parameter transforms, or central differences
-   computed in one batched model call. Then the fitted noise levels given the
-   predictions (L-BFGS-B). With the proportional error option (noise depends on the
-   prediction) a final joint L-BFGS-B polish on the exact likelihood follows.
+   computed in one batched model call. A model with cheaper search sensitivities
+   (a simulator's at a looser tolerance) gives the directions until the
+   log-likelihood is stationary; one more round on the full sensitivities must then
+   find it stationary too (an inexact Jacobian changes only the path, since the
+   residuals are exact; the confirming round makes the stopping test exact as well).
+   Then the fitted noise levels given the predictions (L-BFGS-B). With the proportional
+   error option (noise depends on the prediction) a final joint L-BFGS-B polish on the
+   exact likelihood follows.
 3. **Covariance.** The expected Fisher information of the model parameters at the
    optimum, :math:`F = J^\top W J` (``W`` from
    :meth:`~mechfit.infer.likelihood.Likelihood.information_weights`), inverted, times
@@ -196,7 +201,7 @@ def _robust_loss(student: np.ndarray, nu: np.ndarray):
 
 
 def _model_step(lik: Likelihood, u: np.ndarray, max_evaluations: int,
-                tolerance: float = 1e-14) -> tuple[np.ndarray, int]:
+                tolerance: float = 1e-14, search: bool = False) -> tuple[np.ndarray, int]:
     cols = lik.model_free
     if cols.size == 0:
         return u, 0
@@ -221,7 +226,7 @@ def _model_step(lik: Likelihood, u: np.ndarray, max_evaluations: int,
 
     def jac(theta):
         v = full(theta)
-        mu, d = lik.prediction_and_jacobian(v[None, :])
+        mu, d = lik.prediction_and_jacobian(v[None, :], search=search)
         if d is None:
             count[0] += 1
             dm = finite_difference_jacobian(lik, v, cols)
@@ -297,21 +302,24 @@ def local_search(lik: Likelihood, start: np.ndarray, *, max_rounds: int = 50,
     if not np.isfinite(ll):
         return StartResult(start, u, -math.inf, False, "the model failed at the start", 1)
     message, success = "block search reached the round limit", False
+    search = lik.model.search_sensitivities is not None
     for _ in range(max_rounds):
         if evaluations >= max_evaluations:
             message = (f"stopped after {evaluations} evaluations (the budget of a local "
                        "search) before the log-likelihood settled")
             break
-        u, n = _model_step(lik, u, max_evaluations - evaluations, tolerance)
+        u, n = _model_step(lik, u, max_evaluations - evaluations, tolerance, search)
         evaluations += n
         u = _noise_step(lik, u)
         new = float(lik.log_likelihood(u)[0])
         evaluations += 2
-        if abs(new - ll) <= max(1e-10, tolerance) * (1.0 + abs(new)):
-            ll = new
+        stationary = abs(new - ll) <= max(1e-10, tolerance) * (1.0 + abs(new))
+        ll = new
+        if stationary and search:
+            search = False  # confirm with a round on the full-tolerance Jacobian
+        elif stationary:
             message, success = "log-likelihood stationary", True
             break
-        ll = new
     if lik.proportional:
         v, n = _polish(lik, u)
         evaluations += n

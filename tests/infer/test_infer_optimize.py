@@ -79,3 +79,45 @@ def test_an_unidentified_combination_is_reported():
     fit = maximum_likelihood(lik, starts=4, local=2)
     assert not fit.converged
     assert any("singular" in m for m in fit.messages)
+
+
+def _decay_likelihood(search_error: float | None):
+    """y = A exp(-k t) with exact sensitivities; the search sensitivities, when asked for,
+    are off by a fixed matrix (not a re-parametrisation of the exact ones, so a search
+    that trusted them would stop where their gradient, not the true one, vanishes)."""
+    t = np.linspace(0.0, 4.0, 15)
+    noise = 0.02 * np.sin(7.0 * t + 1.0)
+    y = 2.0 * np.exp(-0.9 * t) + noise
+    calls = {"search": 0, "exact": 0}
+
+    def exact(x):
+        calls["exact"] += 1
+        a, k = x[:, :1], x[:, 1:2]
+        e = np.exp(-k * t)
+        return a * e, np.stack([e, -a * t * e], -1)
+
+    def rough(x):
+        calls["search"] += 1
+        mu, d = exact(x)
+        calls["exact"] -= 1
+        wrong = search_error * np.stack([np.cos(t), t**2 / 16.0], -1)
+        return mu, d + wrong
+
+    model = ModelFunction(("A", "k"), lambda x: exact(x)[0], exact,
+                          rough if search_error is not None else None)
+    pars = Parameters((Parameter("A", 1.0, Uniform(0.01, 10)),
+                       Parameter("k", 0.5, Uniform(0.01, 10))))
+    return Likelihood(model, Observations.single(t, y), pars, ErrorModel(sigma=0.02)), calls
+
+
+def test_cheap_search_sensitivities_reach_the_exact_optimum_and_covariance():
+    exact_lik, _ = _decay_likelihood(None)
+    reference = maximum_likelihood(exact_lik, starts=4, local=2)
+    lik, calls = _decay_likelihood(0.3)
+    fit = maximum_likelihood(lik, starts=4, local=2)
+    assert calls["search"] > 0 and calls["exact"] > 0
+    assert fit.converged
+    assert fit.log_likelihood_max == pytest.approx(reference.log_likelihood_max, abs=1e-9)
+    assert np.allclose(fit.u, reference.u, rtol=1e-7)
+    # the covariance comes from the exact sensitivities, never the search ones
+    assert np.allclose(fit.covariance, reference.covariance, rtol=1e-6)

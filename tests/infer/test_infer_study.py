@@ -16,7 +16,7 @@ from mechfit.derive import derive_variant
 from mechfit.infer import Likelihood, ResultExistsError, SamplingSettings
 from mechfit.infer.fit import fit_study
 from mechfit.infer.optimize import finite_difference_jacobian
-from mechfit.infer.study_model import study_problem
+from mechfit.infer.study_model import SEARCH_RTOL, study_problem
 from mechfit.study import load_study
 
 K_REF, EA, T_REF = 2e-3, 60e3, 303.15   # s^-1 at 30 degC, J/mol (invented)
@@ -65,6 +65,19 @@ def test_study_model_sensitivities_match_differences(study_files):
     k = K_REF * np.exp(-EA / R * (1 / temps - 1 / T_REF))
     a0 = problem.observations.conditions["initial_A"][problem.observations.run]
     assert np.allclose(mu[0], a0 * (1 - np.exp(-k * t)), rtol=1e-6, atol=1e-9)
+    # the search sensitivities: the same quantities from a solve at SEARCH_RTOL
+    asked = []
+    solve = problem.simulator.solve
+
+    def spy(*args, **kwargs):
+        asked.append(kwargs.get("rtol"))
+        return solve(*args, **kwargs)
+
+    problem.simulator.solve = spy
+    _, rough = lik.prediction_and_jacobian(u[None], search=True)
+    assert asked == [SEARCH_RTOL]
+    assert np.allclose(rough[0][:, lik.model_free], fd, rtol=1e-2,
+                       atol=1e-4 * np.abs(fd).max())
 
 
 def test_fit_study_recovers_the_parameters_and_writes_results(study_files, tmp_path):
