@@ -31,10 +31,10 @@ differences computed in one batched simulator call per Jacobian.
 
 The least-squares search takes its directions from sensitivities solved at the looser
 relative tolerance :data:`SEARCH_RTOL` (the error control covers the sensitivities too,
-so they set the step count): about half the cost of a Jacobian on the demo's larger
-schemes. Residuals, log-likelihoods and the Fisher information at the optimum always
-use the full tolerance, and a search ends with a round on the full-tolerance Jacobian
-(see :mod:`mechfit.infer.optimize`).
+so they set the step count): about half the cost of a Jacobian on the larger
+schemes of bench/batch.py. Residuals, log-likelihoods and the Fisher information at
+the optimum always use the full tolerance, and a search ends with a round on the
+full-tolerance Jacobian (see :mod:`mechfit.infer.optimize`).
 
 Observables of kind ``initial_rate`` and ``heat_flow`` and time-derivative
 observables are not supported here yet; asking for them raises a clear error.
