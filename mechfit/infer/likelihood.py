@@ -321,7 +321,9 @@ class Likelihood:
         x = self.parameters.natural(u)
         if self.model.sensitivities is None:
             return self.predict(x), None
-        sens = (self.model.search_sensitivities if search else None) or self.model.sensitivities
+        sens = self.model.sensitivities
+        if search and self.model.search_sensitivities is not None:
+            sens = self.model.search_sensitivities
         mu, dmu_dx = sens(x[:, self.model_columns])
         dx_du = self.parameters.natural_jacobian(u)[:, self.model_columns, :]
         return np.asarray(mu, float), np.einsum("mnp,mpq->mnq", dmu_dx, dx_du)
